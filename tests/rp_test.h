@@ -1,0 +1,52 @@
+/* rp_test.h — shared helpers for the cmocka tests.
+ *
+ * cmocka 1.1.5 has no floating-point assert; assert_close() passes when
+ * |actual - expected| <= abs_tol + rel_tol * |expected|, and fails on NaN or Inf in
+ * either value unless both are the same infinity. */
+#ifndef RP_TEST_H
+#define RP_TEST_H
+
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+
+#include <gsl/gsl_errno.h>
+
+static inline void rp_assert_close_impl(double actual, double expected, double rel_tol,
+                                        double abs_tol, const char *a_txt,
+                                        const char *file, int line) {
+  int ok;
+  if (isnan(actual) || isnan(expected)) {
+    ok = 0;
+  } else if (isinf(actual) || isinf(expected)) {
+    ok = (actual == expected);
+  } else {
+    ok = fabs(actual - expected) <= abs_tol + rel_tol * fabs(expected);
+  }
+  if (!ok) {
+    print_error("%s = %.17g, expected %.17g (rel_tol %.3g, abs_tol %.3g, diff %.3g)\n",
+                a_txt, actual, expected, rel_tol, abs_tol, actual - expected);
+    _fail(file, line);
+  }
+}
+
+#define assert_close(actual, expected, rel_tol, abs_tol)                          \
+  rp_assert_close_impl((double)(actual), (double)(expected), (rel_tol), (abs_tol), \
+                       #actual, __FILE__, __LINE__)
+
+/* Tests turn GSL's aborting error handler off, as main() does. */
+static inline void rp_test_init(void) { gsl_set_error_handler_off(); }
+
+/* Path of a file in the source tree (RP_SOURCE_DIR is compiled in). */
+static inline const char *rp_test_source_path(const char *rel, char *buf, size_t n) {
+  snprintf(buf, n, "%s/%s", RP_SOURCE_DIR, rel);
+  return buf;
+}
+
+#endif

@@ -1,0 +1,37 @@
+# One cmocka executable per tests/test_<module>.c, registered with ctest.
+set(RP_TEST_ENV
+    "LSAN_OPTIONS=suppressions=${CMAKE_SOURCE_DIR}/tests/lsan.supp"
+    "RP_SOURCE_DIR=${CMAKE_SOURCE_DIR}"
+    "RP_BINARY_DIR=${CMAKE_BINARY_DIR}"
+    "OMP_NUM_THREADS=2")
+file(GLOB RP_TEST_SOURCES CONFIGURE_DEPENDS ${CMAKE_SOURCE_DIR}/tests/test_*.c)
+foreach(src ${RP_TEST_SOURCES})
+  get_filename_component(name ${src} NAME_WE)
+  add_executable(${name} ${src})
+  target_include_directories(${name} PRIVATE ${CMAKE_SOURCE_DIR}/src ${CMAKE_SOURCE_DIR}/tests)
+  target_compile_options(${name} PRIVATE ${RP_WARNINGS} -Wno-conversion)
+  target_link_libraries(${name} PRIVATE rainprint PkgConfig::CMOCKA)
+  add_test(NAME ${name} COMMAND ${name})
+  set_tests_properties(${name} PROPERTIES ENVIRONMENT "${RP_TEST_ENV}")
+endforeach()
+
+# Checks against a general-purpose reference library (SciPy, Debian's python3-scipy).
+# Each tests/ref_*.py receives the path of the tool and of a small helper binary.
+find_program(RP_SYSTEM_PYTHON NAMES python3 PATHS /usr/bin NO_DEFAULT_PATH)
+file(GLOB RP_REF_SCRIPTS CONFIGURE_DEPENDS ${CMAKE_SOURCE_DIR}/tests/ref_*.py)
+foreach(script ${RP_REF_SCRIPTS})
+  get_filename_component(name ${script} NAME_WE)
+  add_test(NAME ${name}
+           COMMAND ${RP_SYSTEM_PYTHON} ${script} $<TARGET_FILE:rainprint-cli>
+                   ${CMAKE_BINARY_DIR})
+  set_tests_properties(${name} PROPERTIES ENVIRONMENT "${RP_TEST_ENV}")
+endforeach()
+
+# End-to-end runs of the tool (tests/cli/*.sh), bad input included.
+file(GLOB RP_CLI_SCRIPTS CONFIGURE_DEPENDS ${CMAKE_SOURCE_DIR}/tests/cli/*.sh)
+foreach(script ${RP_CLI_SCRIPTS})
+  get_filename_component(name ${script} NAME_WE)
+  add_test(NAME cli_${name}
+           COMMAND bash ${script} $<TARGET_FILE:rainprint-cli> ${CMAKE_BINARY_DIR})
+  set_tests_properties(cli_${name} PROPERTIES ENVIRONMENT "${RP_TEST_ENV}")
+endforeach()
