@@ -54,7 +54,14 @@ void rp_error_prefix(rp_error *err, const char *fmt, ...) {
   vsnprintf(prefix, sizeof prefix, fmt, ap);
   va_end(ap);
   memcpy(old, err->msg, sizeof old);
-  snprintf(err->msg, sizeof err->msg, "%s%s", prefix, old);
+  /* Truncation of an over-long message is acceptable: copy piecewise. */
+  size_t n = strlen(prefix);
+  if (n >= sizeof err->msg) n = sizeof err->msg - 1;
+  memcpy(err->msg, prefix, n);
+  size_t m = strlen(old);
+  if (m > sizeof err->msg - 1 - n) m = sizeof err->msg - 1 - n;
+  memcpy(err->msg + n, old, m);
+  err->msg[n + m] = '\0';
 }
 
 void rp_error_clear(rp_error *err) {
