@@ -1,3 +1,52 @@
-/* main.c — placeholder until the commands land. */
+/* main.c — the rainprint tool: parse the command name, hand over, exit.
+ * Exit codes: 0 success, 2 bad usage or input, 1 failure while computing. */
 #include <stdio.h>
-int main(void) { puts("rainprint " RP_VERSION_STRING); return 0; }
+#include <string.h>
+
+#include <gsl/gsl_errno.h>
+
+#include "cli/cli.h"
+
+static const rp_cli_command commands[] = {
+    {"drop", "scattering of one drop: amplitudes, cross-sections, axis ratio", rp_cmd_drop},
+    {"table", "build a scattering table (netCDF) for a band, temperature, shape, canting",
+     rp_cmd_table},
+};
+#define N_COMMANDS (sizeof commands / sizeof commands[0])
+
+static void usage(FILE *out) {
+  fprintf(out,
+          "rainprint %s — a forward simulator of dual-polarisation weather-radar returns in rain\n"
+          "\n"
+          "Usage: rainprint COMMAND [options]     (rainprint COMMAND --help for details)\n"
+          "\n"
+          "Commands:\n",
+          RP_VERSION_STRING);
+  for (size_t i = 0; i < N_COMMANDS; i++)
+    fprintf(out, "  %-10s %s\n", commands[i].name, commands[i].summary);
+  fprintf(out,
+          "\nOptions:\n  --help      this help\n  --version   print the version\n"
+          "\nExample:\n  rainprint drop --diameter 3 --band S\n");
+}
+
+int main(int argc, char **argv) {
+  gsl_set_error_handler_off();
+  if (argc < 2) {
+    usage(stderr);
+    return RP_EXIT_USAGE;
+  }
+  if (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
+      strcmp(argv[1], "help") == 0) {
+    usage(stdout);
+    return RP_EXIT_OK;
+  }
+  if (strcmp(argv[1], "--version") == 0) {
+    printf("rainprint %s\n", RP_VERSION_STRING);
+    return RP_EXIT_OK;
+  }
+  for (size_t i = 0; i < N_COMMANDS; i++) {
+    if (strcmp(argv[1], commands[i].name) == 0) return commands[i].run(argc - 1, argv + 1);
+  }
+  fprintf(stderr, "rainprint: unknown command '%s' (see rainprint --help)\n", argv[1]);
+  return RP_EXIT_USAGE;
+}

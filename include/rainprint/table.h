@@ -1,0 +1,62 @@
+/* table.h — scattering tables: per-diameter, canting-averaged scattering quantities
+ * for one band/frequency, temperature, shape model, canting model and SD, elevation and
+ * method; everything a DSD integral needs. Saved as netCDF-4 following the CF
+ * conventions (one dimension `diameter`, units and long names on every variable, all
+ * inputs and the program version as global attributes). */
+#ifndef RAINPRINT_TABLE_H
+#define RAINPRINT_TABLE_H
+
+#include <stddef.h>
+
+#include "rainprint/drop.h"
+#include "rainprint/fallspeed.h"
+#include "rainprint/status.h"
+
+/* Default diameter grid: 0.1 to 8.0 mm in 0.1 mm steps (80 diameters). The step keeps
+ * DSD integrals converged to 0.01 dB (tests/test_table.c). */
+#define RP_TABLE_DMIN_DEFAULT_MM 0.1
+#define RP_TABLE_DMAX_DEFAULT_MM 8.0
+#define RP_TABLE_DSTEP_DEFAULT_MM 0.1
+
+typedef struct {
+  rp_drop_config cfg;        /* what the table was computed for */
+  rp_fall_model fall_model;  /* model of fall_speed_m_s */
+  double wavelength_mm;
+  double eps_re, eps_im;     /* permittivity of water used */
+  char version[32];          /* program version that wrote it */
+  size_t n;                  /* number of diameters */
+  double *d_mm, *axis_ratio, *fall_speed_m_s;
+  /* canting-averaged second moments of the backscatter amplitudes, mm^2 */
+  double *back_hh2_mm2, *back_vv2_mm2, *back_hv2_mm2;
+  double *back_hhvv_re_mm2, *back_hhvv_im_mm2; /* <f_hh(pi) f_vv(pi)*> */
+  /* canting-averaged forward amplitudes, mm */
+  double *fwd_hh_re_mm, *fwd_hh_im_mm, *fwd_vv_re_mm, *fwd_vv_im_mm;
+} rp_table;
+
+/* Allocate a table of n diameters (arrays zeroed). NULL on out-of-memory. */
+rp_table *rp_table_alloc(size_t n);
+void rp_table_free(rp_table *t);   /* NULL ok */
+
+/* Compute a table for cfg on the grid dmin_mm, dmin_mm + dstep_mm, ..., <= dmax_mm
+ * (+ a rounding allowance), in parallel over diameters (OpenMP). Caller frees *out.
+ * Statuses: RP_EINVAL/RP_EDOM for a bad grid or config, RP_ENOCONV if the T-matrix
+ * fails for any diameter (the message names it), RP_ENOMEM. */
+rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
+                         double dstep_mm, rp_table **out, rp_error *err);
+
+/* Write t to path as netCDF-4 (temporary file in the same folder, then rename: the file
+ * appears whole or not at all). RP_ENETCDF / RP_EIO on failure. */
+rp_status rp_table_save(const rp_table *t, const char *path, rp_error *err);
+
+/* Read and check a table: required variables and attributes present with the right
+ * types, sizes and units, diameters strictly increasing in (0, 10] mm, every value
+ * finite, second moments >= 0, config in range. Caller frees *out.
+ * RP_EIO for a missing/unreadable file, RP_ETABLE for a malformed one. */
+rp_status rp_table_load(const char *path, rp_table **out, rp_error *err);
+
+/* RP_OK when t was computed for cfg (frequency, temperature, shape or fixed axis ratio,
+ * canting model/SD/approximation, elevation, method, within 1e-6); otherwise
+ * RP_ETABLE naming the first field that differs. */
+rp_status rp_table_check_match(const rp_table *t, const rp_drop_config *cfg, rp_error *err);
+
+#endif

@@ -1,0 +1,159 @@
+/* cli_common.c — option parsing, error reporting and JSON output shared by commands. */
+#include "cli/cli.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "rainprint/shape.h"
+
+int rp_cli_fail(const char *cmd, rp_status s, const char *fmt, ...) {
+  fprintf(stderr, "rainprint %s: ", cmd);
+  va_list ap;
+  va_start(ap, fmt);
+  vfprintf(stderr, fmt, ap);
+  va_end(ap);
+  fputc('\n', stderr);
+  return rp_status_is_input_error(s) ? RP_EXIT_USAGE : RP_EXIT_COMPUTE;
+}
+
+int rp_cli_fail_err(const char *cmd, const rp_error *err) {
+  return rp_cli_fail(cmd, err->status, "%s", err->msg[0] ? err->msg : rp_status_message(err->status));
+}
+
+int rp_cli_parse_double(const char *cmd, const char *opt, const char *text, double *out) {
+  char *end = NULL;
+  errno = 0;
+  const double x = strtod(text, &end);
+  if (end == text || *end != '\0' || errno == ERANGE || !isfinite(x)) {
+    rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is not a finite number", opt, text);
+    return -1;
+  }
+  *out = x;
+  return 0;
+}
+
+int rp_cli_parse_long(const char *cmd, const char *opt, const char *text, long *out) {
+  char *end = NULL;
+  errno = 0;
+  const long x = strtol(text, &end, 10);
+  if (end == text || *end != '\0' || errno == ERANGE) {
+    rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is not a whole number", opt, text);
+    return -1;
+  }
+  *out = x;
+  return 0;
+}
+
+const char rp_cli_scatter_help[] =
+    "Scattering options:\n"
+    "  --band S|C|X|Ku|Ka     radar band (centres 2.8, 5.6, 9.4, 13.6, 35 GHz; default C)\n"
+    "  --frequency GHZ        explicit frequency instead of a band\n"
+    "  --temperature C        water temperature (default 10; -10..50)\n"
+    "  --shape MODEL          axis-ratio model: sphere, pruppacher-beard, beard-chuang,\n"
+    "                         andsager, brandes, thurai (default thurai)\n"
+    "  --axis-ratio R         fixed axis ratio b/a for every diameter (0.3..3)\n"
+    "  --canting-sd DEG       standard deviation of the canting angle (default 7; 0..45)\n"
+    "  --canting-model M      planar (tilt across the beam; default) or 3d\n"
+    "  --canting-approx       angular-moment approximation instead of quadrature\n"
+    "  --elevation DEG        beam elevation angle (default 0; 0..90)\n"
+    "  --method M             tmatrix (default), rayleigh, or mie (spheres only)\n"
+    "  --json                 machine-readable output\n"
+    "  --help                 this help\n";
+
+void rp_cli_scatter_init(rp_cli_scatter *s) {
+  memset(s, 0, sizeof *s);
+  rp_drop_config_default(&s->cfg);
+}
+
+int rp_cli_scatter_option(const char *cmd, rp_cli_scatter *s, int code, const char *arg) {
+  rp_error err = {0};
+  switch (code) {
+    case RP_OPT_BAND:
+      s->band = arg;
+      if (rp_band_frequency_ghz(arg, &s->cfg.freq_ghz, &err) != RP_OK) {
+        rp_cli_fail(cmd, err.status, "--band: %s", err.msg);
+        return -RP_EXIT_USAGE;
+      }
+      return 1;
+    case RP_OPT_FREQUENCY:
+      s->have_frequency = 1;
+      return rp_cli_parse_double(cmd, "frequency", arg, &s->cfg.freq_ghz) ? -RP_EXIT_USAGE : 1;
+    case RP_OPT_TEMPERATURE:
+      return rp_cli_parse_double(cmd, "temperature", arg, &s->cfg.temp_c) ? -RP_EXIT_USAGE : 1;
+    case RP_OPT_SHAPE:
+      if (rp_shape_from_name(arg, &s->cfg.shape, &err) != RP_OK) {
+        rp_cli_fail(cmd, err.status, "--shape: %s", err.msg);
+        return -RP_EXIT_USAGE;
+      }
+      return 1;
+    case RP_OPT_AXIS_RATIO:
+      return rp_cli_parse_double(cmd, "axis-ratio", arg, &s->cfg.axis_ratio_fixed) ? -RP_EXIT_USAGE : 1;
+    case RP_OPT_CANTING_SD:
+      return rp_cli_parse_double(cmd, "canting-sd", arg, &s->cfg.canting_sd_deg) ? -RP_EXIT_USAGE : 1;
+    case RP_OPT_CANTING_MODEL:
+      if (rp_canting_model_from_name(arg, &s->cfg.canting_model, &err) != RP_OK) {
+        rp_cli_fail(cmd, err.status, "--canting-model: %s", err.msg);
+        return -RP_EXIT_USAGE;
+      }
+      return 1;
+    case RP_OPT_CANTING_APPROX:
+      s->cfg.canting_approx = 1;
+      return 1;
+    case RP_OPT_ELEVATION:
+      return rp_cli_parse_double(cmd, "elevation", arg, &s->cfg.elevation_deg) ? -RP_EXIT_USAGE : 1;
+    case RP_OPT_METHOD:
+      if (rp_method_from_name(arg, &s->cfg.method, &err) != RP_OK) {
+        rp_cli_fail(cmd, err.status, "--method: %s", err.msg);
+        return -RP_EXIT_USAGE;
+      }
+      return 1;
+    case RP_OPT_JSON:
+      s->json = 1;
+      return 1;
+    case RP_OPT_HELP:
+      s->help = 1;
+      return 1;
+    default:
+      return 0;
+  }
+}
+
+int rp_cli_scatter_finish(const char *cmd, rp_cli_scatter *s) {
+  if (s->band != NULL && s->have_frequency)
+    return rp_cli_fail(cmd, RP_EINVAL, "give either --band or --frequency, not both");
+  if (s->cfg.axis_ratio_fixed > 0.0 && s->cfg.method == RP_METHOD_MIE &&
+      s->cfg.axis_ratio_fixed != 1.0)
+    return rp_cli_fail(cmd, RP_EINVAL, "--method mie needs a sphere (--axis-ratio 1)");
+  if (s->cfg.method == RP_METHOD_MIE && s->cfg.axis_ratio_fixed == 0.0 &&
+      s->cfg.shape != RP_SHAPE_SPHERE)
+    return rp_cli_fail(cmd, RP_EINVAL,
+                       "--method mie is for spheres only: add --shape sphere or --axis-ratio 1");
+  rp_error err = {0};
+  if (rp_drop_config_check(&s->cfg, &err) != RP_OK) return rp_cli_fail_err(cmd, &err);
+  return 0;
+}
+
+json_t *rp_json_real(double x) { return isfinite(x) ? json_real(x) : json_null(); }
+
+json_t *rp_json_complex(double complex z) {
+  return json_pack("{s:o, s:o}", "re", rp_json_real(creal(z)), "im", rp_json_real(cimag(z)));
+}
+
+int rp_json_print(json_t *root) {
+  if (root == NULL) {
+    fprintf(stderr, "rainprint: could not build the JSON output\n");
+    return RP_EXIT_COMPUTE;
+  }
+  char *text = json_dumps(root, JSON_INDENT(2) | JSON_REAL_PRECISION(10));
+  json_decref(root);
+  if (text == NULL) {
+    fprintf(stderr, "rainprint: could not format the JSON output\n");
+    return RP_EXIT_COMPUTE;
+  }
+  puts(text);
+  free(text);
+  return RP_EXIT_OK;
+}

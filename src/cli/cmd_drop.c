@@ -1,0 +1,133 @@
+/* cmd_drop.c — `rainprint drop`: scattering of one drop. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli/cli.h"
+#include "rainprint/shape.h"
+
+static const char drop_help[] =
+    "Usage: rainprint drop --diameter MM [options]\n"
+    "\n"
+    "Scattering of one raindrop: backscatter and forward amplitudes at the mean\n"
+    "orientation, and cross-sections averaged over the canting distribution.\n"
+    "\n"
+    "  --diameter MM          equal-volume diameter, (0, 10] mm (required)\n"
+    "%s"
+    "\n"
+    "Example:\n"
+    "  rainprint drop --diameter 4 --band X --temperature 15 --json\n";
+
+enum { OPT_DIAMETER = RP_OPT_FIRST_FREE };
+
+static void print_complex(const char *label, double complex z, const char *unit) {
+  printf("  %-26s %+.6e %+.6ei %s\n", label, creal(z), cimag(z), unit);
+}
+
+static void print_text(const rp_cli_scatter *s, const rp_drop_result *r) {
+  const rp_drop_config *c = &s->cfg;
+  const char *band = rp_band_of_frequency(c->freq_ghz);
+  printf("Drop D = %.3f mm at %.4g GHz%s%s%s (wavelength %.3f mm), %.1f C\n", r->d_mm,
+         c->freq_ghz, band ? " (" : "", band ? band : "", band ? " band)" : "", r->wavelength_mm,
+         c->temp_c);
+  printf("  permittivity             %.4f + %.4fi\n", creal(r->eps), cimag(r->eps));
+  printf("  axis ratio               %.4f (%s)\n", r->axis_ratio,
+         c->axis_ratio_fixed > 0.0 ? "fixed" : rp_shape_name(c->shape));
+  printf("  method                   %s", rp_method_name(c->method));
+  if (r->nmax > 0) printf(" (%d terms)", r->nmax);
+  printf("\n  elevation                %.2f deg\n", c->elevation_deg);
+  printf("  canting                  %s, SD %.2f deg%s\n", rp_canting_model_name(c->canting_model),
+         c->canting_sd_deg, c->canting_approx ? " (angular-moment approximation)" : "");
+  printf("Amplitudes at the mean orientation (mm):\n");
+  print_complex("backscatter f_hh(pi)", r->back_hh_mm, "mm");
+  print_complex("backscatter f_vv(pi)", r->back_vv_mm, "mm");
+  print_complex("backscatter f_hv(pi)", r->back_hv_mm, "mm");
+  print_complex("forward f_hh(0)", r->fwd_hh_mm, "mm");
+  print_complex("forward f_vv(0)", r->fwd_vv_mm, "mm");
+  const double s_hh = 4.0 * M_PI * r->avg.back_hh2_mm2, s_vv = 4.0 * M_PI * r->avg.back_vv2_mm2;
+  const double s_hv = 4.0 * M_PI * r->avg.back_hv2_mm2;
+  printf("Canting-averaged cross-sections:\n");
+  printf("  sigma_hh                 %.6e mm^2\n", s_hh);
+  printf("  sigma_vv                 %.6e mm^2\n", s_vv);
+  printf("  sigma_hv                 %.6e mm^2\n", s_hv);
+  printf("  extinction h             %.6e mm^2\n", 2.0 * r->wavelength_mm * cimag(r->avg.fwd_hh_mm));
+  printf("  extinction v             %.6e mm^2\n", 2.0 * r->wavelength_mm * cimag(r->avg.fwd_vv_mm));
+  printf("  single-drop ZDR          %.4f dB\n", 10.0 * log10(s_hh / s_vv));
+}
+
+static int print_json(const rp_cli_scatter *s, const rp_drop_result *r) {
+  const rp_drop_config *c = &s->cfg;
+  const char *band = rp_band_of_frequency(c->freq_ghz);
+  json_t *o = json_object();
+  json_object_set_new(o, "diameter_mm", rp_json_real(r->d_mm));
+  json_object_set_new(o, "band", band ? json_string(band) : json_null());
+  json_object_set_new(o, "frequency_ghz", rp_json_real(c->freq_ghz));
+  json_object_set_new(o, "wavelength_mm", rp_json_real(r->wavelength_mm));
+  json_object_set_new(o, "temperature_c", rp_json_real(c->temp_c));
+  json_object_set_new(o, "permittivity", rp_json_complex(r->eps));
+  json_object_set_new(o, "axis_ratio", rp_json_real(r->axis_ratio));
+  json_object_set_new(o, "shape_model",
+                      json_string(c->axis_ratio_fixed > 0.0 ? "fixed" : rp_shape_name(c->shape)));
+  json_object_set_new(o, "canting_sd_deg", rp_json_real(c->canting_sd_deg));
+  json_object_set_new(o, "canting_model", json_string(rp_canting_model_name(c->canting_model)));
+  json_object_set_new(o, "canting_average",
+                      json_string(c->canting_approx ? "angular-moments" : "quadrature"));
+  json_object_set_new(o, "elevation_deg", rp_json_real(c->elevation_deg));
+  json_object_set_new(o, "method", json_string(rp_method_name(c->method)));
+  json_object_set_new(o, "tmatrix_terms", json_integer(r->nmax));
+  json_object_set_new(o, "back_hh_mm", rp_json_complex(r->back_hh_mm));
+  json_object_set_new(o, "back_vv_mm", rp_json_complex(r->back_vv_mm));
+  json_object_set_new(o, "back_hv_mm", rp_json_complex(r->back_hv_mm));
+  json_object_set_new(o, "fwd_hh_mm", rp_json_complex(r->fwd_hh_mm));
+  json_object_set_new(o, "fwd_vv_mm", rp_json_complex(r->fwd_vv_mm));
+  json_object_set_new(o, "sigma_hh_mm2", rp_json_real(4.0 * M_PI * r->avg.back_hh2_mm2));
+  json_object_set_new(o, "sigma_vv_mm2", rp_json_real(4.0 * M_PI * r->avg.back_vv2_mm2));
+  json_object_set_new(o, "sigma_hv_mm2", rp_json_real(4.0 * M_PI * r->avg.back_hv2_mm2));
+  json_object_set_new(o, "ext_h_mm2", rp_json_real(2.0 * r->wavelength_mm * cimag(r->avg.fwd_hh_mm)));
+  json_object_set_new(o, "ext_v_mm2", rp_json_real(2.0 * r->wavelength_mm * cimag(r->avg.fwd_vv_mm)));
+  return rp_json_print(o);
+}
+
+int rp_cmd_drop(int argc, char **argv) {
+  static const struct option longopts[] = {
+      RP_CLI_SCATTER_LONGOPTS, {"diameter", required_argument, NULL, OPT_DIAMETER}, {0, 0, 0, 0}};
+  rp_cli_scatter s;
+  rp_cli_scatter_init(&s);
+  double d_mm = NAN;
+  int have_d = 0, code;
+  optind = 1;
+  opterr = 0;
+  while ((code = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
+    if (code == '?' || code == ':')
+      return rp_cli_fail("drop", RP_EINVAL, "unknown or incomplete option '%s' (see --help)",
+                         argv[optind - 1]);
+    if (code == OPT_DIAMETER) {
+      if (rp_cli_parse_double("drop", "diameter", optarg, &d_mm)) return RP_EXIT_USAGE;
+      have_d = 1;
+      continue;
+    }
+    const int h = rp_cli_scatter_option("drop", &s, code, optarg);
+    if (h < 0) return -h;
+  }
+  if (s.help) {
+    printf(drop_help, rp_cli_scatter_help);
+    return RP_EXIT_OK;
+  }
+  if (optind < argc) return rp_cli_fail("drop", RP_EINVAL, "unexpected argument '%s'", argv[optind]);
+  if (!have_d) return rp_cli_fail("drop", RP_EINVAL, "--diameter is required (see --help)");
+  if (!(d_mm > 0.0 && d_mm <= 10.0))
+    return rp_cli_fail("drop", RP_EDOM, "--diameter %g mm outside (0, 10] mm", d_mm);
+  const int fin = rp_cli_scatter_finish("drop", &s);
+  if (fin) return fin;
+
+  rp_drop_ws *ws = rp_drop_ws_alloc(&s.cfg);
+  if (ws == NULL) return rp_cli_fail("drop", RP_ENOMEM, "out of memory");
+  rp_drop_result r;
+  rp_error err = {0};
+  const rp_status st = rp_drop_eval(ws, d_mm, &r, &err);
+  rp_drop_ws_free(ws);
+  if (st != RP_OK) return rp_cli_fail_err("drop", &err);
+  if (s.json) return print_json(&s, &r);
+  print_text(&s, &r);
+  return RP_EXIT_OK;
+}

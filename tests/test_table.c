@@ -1,0 +1,201 @@
+/* test_table.c — build, save, load and check scattering tables. */
+#include "rp_test.h"
+
+#include <netcdf.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "rainprint/table.h"
+
+static char tmpdir[256];
+
+static int setup(void **state) {
+  (void)state;
+  snprintf(tmpdir, sizeof tmpdir, "%s/test_table_tmp", getenv("RP_BINARY_DIR") ? getenv("RP_BINARY_DIR") : ".");
+  char cmd[512];
+  snprintf(cmd, sizeof cmd, "rm -rf '%s' && mkdir -p '%s'", tmpdir, tmpdir);
+  return system(cmd);
+}
+
+static const char *tmp_path(const char *name, char *buf, size_t n) {
+  snprintf(buf, n, "%s/%s", tmpdir, name);
+  return buf;
+}
+
+static rp_table *small_table(void) {
+  rp_drop_config c;
+  rp_drop_config_default(&c);
+  rp_table *t = NULL;
+  rp_error err = {0};
+  if (rp_table_build(&c, 0.5, 6.0, 0.5, &t, &err) != RP_OK) fail_msg("build: %s", err.msg);
+  return t;
+}
+
+static void test_table_build_grid_and_values(void **state) {
+  (void)state;
+  rp_table *t = small_table();
+  assert_int_equal(t->n, 12);
+  assert_close(t->d_mm[0], 0.5, 0.0, 1e-15);
+  assert_close(t->d_mm[11], 6.0, 1e-15, 0.0);
+  for (size_t i = 1; i < t->n; i++) {
+    /* backscatter grows with size, oblate drops: hh > vv, positive extinction */
+    assert_true(t->back_hh2_mm2[i] > t->back_hh2_mm2[i - 1]);
+    assert_true(t->back_hh2_mm2[i] > t->back_vv2_mm2[i]);
+    assert_true(t->fwd_hh_im_mm[i] > 0.0);
+    assert_true(t->fall_speed_m_s[i] > t->fall_speed_m_s[i - 1]);
+  }
+  rp_table_free(t);
+}
+
+static void test_table_save_load_round_trip_is_exact(void **state) {
+  (void)state;
+  char path[512];
+  rp_table *t = small_table();
+  rp_error err = {0};
+  assert_int_equal(rp_table_save(t, tmp_path("rt.nc", path, sizeof path), &err), RP_OK);
+  rp_table *u = NULL;
+  if (rp_table_load(path, &u, &err) != RP_OK) fail_msg("load: %s", err.msg);
+  assert_int_equal(u->n, t->n);
+  for (size_t i = 0; i < t->n; i++) {
+    assert_true(u->d_mm[i] == t->d_mm[i]);
+    assert_true(u->back_hh2_mm2[i] == t->back_hh2_mm2[i]);
+    assert_true(u->back_hhvv_im_mm2[i] == t->back_hhvv_im_mm2[i]);
+    assert_true(u->fwd_vv_re_mm[i] == t->fwd_vv_re_mm[i]);
+  }
+  assert_int_equal(rp_table_check_match(u, &t->cfg, &err), RP_OK);
+  rp_drop_config other = t->cfg;
+  other.temp_c = 20.0;
+  assert_int_equal(rp_table_check_match(u, &other, &err), RP_ETABLE);
+  assert_non_null(strstr(err.msg, "20"));
+  other = t->cfg;
+  other.shape = RP_SHAPE_SPHERE;
+  assert_int_equal(rp_table_check_match(u, &other, &err), RP_ETABLE);
+  assert_non_null(strstr(err.msg, "shape"));
+  rp_table_free(t);
+  rp_table_free(u);
+}
+
+/* Corrupt a saved table with the netCDF API and expect a clear refusal. */
+static void corrupt_and_expect(const char *what, const char *expect_in_msg) {
+  char path[512];
+  snprintf(path, sizeof path, "%s/bad_%s.nc", tmpdir, what);
+  rp_table *t = small_table();
+  rp_error err = {0};
+  assert_int_equal(rp_table_save(t, path, &err), RP_OK);
+  rp_table_free(t);
+  int ncid, varid;
+  assert_int_equal(nc_open(path, NC_WRITE, &ncid), NC_NOERR);
+  if (strcmp(what, "missing_var") == 0) {
+    assert_int_equal(nc_redef(ncid), NC_NOERR);
+    assert_int_equal(nc_inq_varid(ncid, "back_vv2", &varid), NC_NOERR);
+    assert_int_equal(nc_rename_var(ncid, varid, "something_else"), NC_NOERR);
+  } else if (strcmp(what, "units") == 0) {
+    assert_int_equal(nc_redef(ncid), NC_NOERR);
+    assert_int_equal(nc_inq_varid(ncid, "diameter", &varid), NC_NOERR);
+    assert_int_equal(nc_put_att_text(ncid, varid, "units", 2, "cm"), NC_NOERR);
+  } else if (strcmp(what, "nan") == 0) {
+    assert_int_equal(nc_inq_varid(ncid, "back_hh2", &varid), NC_NOERR);
+    const size_t idx = 3;
+    const double x = NAN;
+    assert_int_equal(nc_put_var1_double(ncid, varid, &idx, &x), NC_NOERR);
+  } else if (strcmp(what, "order") == 0) {
+    assert_int_equal(nc_inq_varid(ncid, "diameter", &varid), NC_NOERR);
+    const size_t idx = 5;
+    const double x = 0.1;
+    assert_int_equal(nc_put_var1_double(ncid, varid, &idx, &x), NC_NOERR);
+  } else if (strcmp(what, "attr") == 0) {
+    assert_int_equal(nc_redef(ncid), NC_NOERR);
+    assert_int_equal(nc_del_att(ncid, NC_GLOBAL, "temperature_c"), NC_NOERR);
+  }
+  assert_int_equal(nc_close(ncid), NC_NOERR);
+  rp_table *u = NULL;
+  assert_int_equal(rp_table_load(path, &u, &err), RP_ETABLE);
+  assert_null(u);
+  if (strstr(err.msg, expect_in_msg) == NULL) fail_msg("message '%s' lacks '%s'", err.msg, expect_in_msg);
+}
+
+static void test_table_load_refuses_malformed_files(void **state) {
+  (void)state;
+  corrupt_and_expect("missing_var", "back_vv2");
+  corrupt_and_expect("units", "units");
+  corrupt_and_expect("nan", "back_hh2");
+  corrupt_and_expect("order", "increase");
+  corrupt_and_expect("attr", "temperature_c");
+
+  rp_error err = {0};
+  rp_table *u = NULL;
+  char path[512];
+  assert_int_equal(rp_table_load(tmp_path("does-not-exist.nc", path, sizeof path), &u, &err), RP_EIO);
+  FILE *f = fopen(tmp_path("text.nc", path, sizeof path), "w");
+  fputs("this is not netCDF\n", f);
+  fclose(f);
+  assert_int_equal(rp_table_load(path, &u, &err), RP_ETABLE);
+  assert_non_null(strstr(err.msg, "netCDF"));
+}
+
+static void test_table_save_failure_leaves_no_file(void **state) {
+  (void)state;
+  rp_table *t = small_table();
+  rp_error err = {0};
+  char path[512];
+  tmp_path("no-such-dir/t.nc", path, sizeof path);
+  assert_int_equal(rp_table_save(t, path, &err), RP_EIO);
+  assert_int_not_equal(access(path, F_OK), 0);
+  rp_table_free(t);
+}
+
+static void test_table_build_refuses_bad_grid(void **state) {
+  (void)state;
+  rp_drop_config c;
+  rp_drop_config_default(&c);
+  rp_table *t = NULL;
+  rp_error err = {0};
+  assert_int_equal(rp_table_build(&c, 0.0, 8.0, 0.1, &t, &err), RP_EDOM);
+  assert_int_equal(rp_table_build(&c, 1.0, 0.5, 0.1, &t, &err), RP_EDOM);
+  assert_int_equal(rp_table_build(&c, 0.1, 12.0, 0.1, &t, &err), RP_EDOM);
+  assert_int_equal(rp_table_build(&c, 0.1, 8.0, 0.0, &t, &err), RP_EDOM);
+  assert_int_equal(rp_table_build(&c, 0.1, 8.0, NAN, &t, &err), RP_EINVAL);
+  c.elevation_deg = -5.0;
+  assert_int_equal(rp_table_build(&c, 0.1, 8.0, 0.1, &t, &err), RP_EDOM);
+  assert_null(t);
+}
+
+/* The shipped C-band 10 C table, regenerated with today's code, must agree with the
+ * file (scattering/README.md gives the command). 1e-9 relative: same code and inputs,
+ * only summation order across threads may differ. */
+static void test_shipped_table_regenerates(void **state) {
+  (void)state;
+  char path[512];
+  rp_test_source_path("scattering/rainprint_C_10C.nc", path, sizeof path);
+  rp_table *shipped = NULL;
+  rp_error err = {0};
+  if (rp_table_load(path, &shipped, &err) != RP_OK) fail_msg("load shipped: %s", err.msg);
+  rp_table *fresh = NULL;
+  if (rp_table_build(&shipped->cfg, RP_TABLE_DMIN_DEFAULT_MM, RP_TABLE_DMAX_DEFAULT_MM,
+                     RP_TABLE_DSTEP_DEFAULT_MM, &fresh, &err) != RP_OK)
+    fail_msg("build: %s", err.msg);
+  assert_int_equal(fresh->n, shipped->n);
+  for (size_t i = 0; i < fresh->n; i++) {
+    assert_close(fresh->d_mm[i], shipped->d_mm[i], 1e-12, 0.0);
+    assert_close(fresh->back_hh2_mm2[i], shipped->back_hh2_mm2[i], 1e-9, 0.0);
+    assert_close(fresh->back_vv2_mm2[i], shipped->back_vv2_mm2[i], 1e-9, 0.0);
+    assert_close(fresh->back_hv2_mm2[i], shipped->back_hv2_mm2[i], 1e-9, 1e-30);
+    assert_close(fresh->fwd_hh_re_mm[i], shipped->fwd_hh_re_mm[i], 1e-9, 0.0);
+    assert_close(fresh->fwd_vv_im_mm[i], shipped->fwd_vv_im_mm[i], 1e-9, 0.0);
+  }
+  rp_table_free(fresh);
+  rp_table_free(shipped);
+}
+
+int main(void) {
+  rp_test_init();
+  const struct CMUnitTest tests[] = {
+      cmocka_unit_test(test_table_build_grid_and_values),
+      cmocka_unit_test(test_table_save_load_round_trip_is_exact),
+      cmocka_unit_test(test_table_load_refuses_malformed_files),
+      cmocka_unit_test(test_table_save_failure_leaves_no_file),
+      cmocka_unit_test(test_table_build_refuses_bad_grid),
+      cmocka_unit_test(test_shipped_table_regenerates),
+  };
+  return cmocka_run_group_tests_name("table", tests, setup, NULL);
+}
