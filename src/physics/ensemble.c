@@ -1,0 +1,539 @@
+/* ensemble.c — seeded ensembles of normalised-gamma DSD parameters (log10 Nw, D0, mu)
+ * drawn from a climate: a weighted mixture of clusters.
+ *
+ * Method (equations and parameter sources in docs/_parts/method-relate.md):
+ * - Cluster k is chosen with probability w_k (one uniform deviate u1).
+ * - D0 ~ N(m_D, s_D) truncated to [0.5, 3.5] mm, drawn by inverting the truncated CDF:
+ *   x = Phi^-1(Phi(a) + u2 (Phi(b) - Phi(a))), a, b the standardised bounds (upper-tail
+ *   form Q when a > 0, so that both tails keep their precision).
+ * - log10 Nw | D0 ~ N(m_N + rho s_N (D0 - m_D)/s_D, s_N sqrt(1 - rho^2)), the conditional
+ *   law of the bivariate normal, truncated to [2, 5.5] the same way (u3). Where the
+ *   truncation of log10 Nw does not bite, (D0, log10 Nw) is the bivariate normal with
+ *   D0 truncated; it is not the bivariate normal truncated to the box, which would need
+ *   rejection (an unbounded loop).
+ * - mu ~ N(mu_mean, mu_sd) truncated to [-1, 12] (u4), or mu from D0 by the constrained
+ *   mu-Lambda relation of Zhang et al. (2001), mu = -0.016 L^2 + 1.213 L - 1.957 with
+ *   L D0 = 3.67 + mu (Ulbrich's approximation used by the D0 form), solved exactly as a
+ *   quadratic in L, then clipped to [-1, 12]; u4 is drawn and discarded so that both mu
+ *   models give the same (D0, Nw) for the same seed.
+ * Generator: GSL mt19937, seeded once; four deviates per member in member order.
+ *
+ * YAML loading: a libyaml scan refuses numbers that are not plain decimals (libcyaml
+ * 1.3.1 accepts nan, inf, hex and "1.4mm" -> 1.4 silently), libcyaml loads against a
+ * schema (floats and the enum CYAML_FLAG_STRICT, unknown keys are errors) with its log
+ * collected into the rp_error, then rp_climate_validate checks ranges. */
+#include "rainprint/ensemble.h"
+
+#include <ctype.h>
+#include <errno.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdbool.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cyaml/cyaml.h>
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_rng.h>
+#include <yaml.h>
+
+/* ---- built-in climates ------------------------------------------------------------- */
+
+/* Cluster centres follow the clusters of Bringi et al. (2003, J. Atmos. Sci. 60,
+ * 354-365; values from memory): stratiform log10 Nw about 3.3-3.5 decreasing with D0;
+ * maritime-like convective log10 Nw about 4.5 with D0 about 1.5-1.75 mm; continental-
+ * like convective log10 Nw about 3-3.5 with D0 about 2-2.75 mm. The spreads, the
+ * correlations and the weights are our own choices (method-relate.md); mu ~ N(3, 2)
+ * is common practice (from memory). */
+#define STRATIFORM {"stratiform", 0.0, 3.4, 0.30, 1.40, 0.35, -0.5, 3.0, 2.0}
+#define CONV_MARITIME {"convective-maritime", 0.0, 4.5, 0.25, 1.60, 0.25, -0.6, 3.0, 2.0}
+#define CONV_CONTINENTAL {"convective-continental", 0.0, 3.25, 0.25, 2.40, 0.30, -0.6, 3.0, 2.0}
+
+static rp_climate_cluster with_weight(rp_climate_cluster k, double w) {
+  k.weight = w;
+  return k;
+}
+
+static const char *const climate_names[] = {"maritime", "continental", "mixed"};
+#define N_CLIMATES (sizeof climate_names / sizeof climate_names[0])
+
+static rp_climate builtin(size_t i) {
+  const rp_climate_cluster strat = STRATIFORM, mar = CONV_MARITIME, con = CONV_CONTINENTAL;
+  rp_climate c;
+  memset(&c, 0, sizeof c);
+  snprintf(c.name, sizeof c.name, "%s", climate_names[i]);
+  c.mu_model = RP_MU_GAUSSIAN;
+  switch (i) {
+    case 0: /* maritime */
+      c.n_clusters = 2;
+      c.clusters[0] = with_weight(strat, 0.6);
+      c.clusters[1] = with_weight(mar, 0.4);
+      break;
+    case 1: /* continental */
+      c.n_clusters = 2;
+      c.clusters[0] = with_weight(strat, 0.6);
+      c.clusters[1] = with_weight(con, 0.4);
+      break;
+    default: /* mixed */
+      c.n_clusters = 3;
+      c.clusters[0] = with_weight(strat, 0.5);
+      c.clusters[1] = with_weight(mar, 0.25);
+      c.clusters[2] = with_weight(con, 0.25);
+      break;
+  }
+  return c;
+}
+
+const char *const *rp_climate_names(size_t *n) {
+  if (n) *n = N_CLIMATES;
+  return climate_names;
+}
+
+rp_status rp_climate_from_name(const char *name, rp_climate *c, rp_error *err) {
+  if (name == NULL || c == NULL)
+    return rp_error_set(err, RP_EINVAL, "climate: name or output is NULL");
+  for (size_t i = 0; i < N_CLIMATES; i++)
+    if (strcmp(name, climate_names[i]) == 0) {
+      *c = builtin(i);
+      return RP_OK;
+    }
+  char known[256] = "";
+  for (size_t i = 0; i < N_CLIMATES; i++) {
+    size_t len = strlen(known);
+    snprintf(known + len, sizeof known - len, "%s%s", i ? ", " : "", climate_names[i]);
+  }
+  return rp_error_set(err, RP_EINVAL, "unknown climate '%s' (known: %s)", name, known);
+}
+
+/* ---- validation -------------------------------------------------------------------- */
+
+static rp_status check_range(const char *where, const char *field, double v, double lo,
+                             bool lo_open, double hi, rp_error *err) {
+  bool ok = isfinite(v) && (lo_open ? v > lo : v >= lo) && v <= hi;
+  if (ok) return RP_OK;
+  return rp_error_set(err, RP_EINVAL, "%s%s = %g outside %s%g, %g]", where, field, v,
+                      lo_open ? "(" : "[", lo, hi);
+}
+
+rp_status rp_climate_validate(const rp_climate *c, rp_error *err) {
+  if (c == NULL) return rp_error_set(err, RP_EINVAL, "climate is NULL");
+  if (c->n_clusters < 1 || c->n_clusters > RP_CLIMATE_MAX_CLUSTERS)
+    return rp_error_set(err, RP_EINVAL, "climate '%.63s': %zu clusters outside [1, %d]",
+                        c->name, c->n_clusters, RP_CLIMATE_MAX_CLUSTERS);
+  if (c->mu_model != RP_MU_GAUSSIAN && c->mu_model != RP_MU_ZHANG2001)
+    return rp_error_set(err, RP_EINVAL, "climate '%.63s': mu_model %d is not gaussian (0) "
+                        "or zhang2001 (1)", c->name, (int)c->mu_model);
+  double wsum = 0.0;
+  for (size_t k = 0; k < c->n_clusters; k++) {
+    const rp_climate_cluster *q = &c->clusters[k];
+    char where[128];
+    snprintf(where, sizeof where, "clusters[%zu] (\"%.63s\"): ", k, q->name);
+    RP_TRY(check_range(where, "weight", q->weight, 0.0, true, 1.0, err));
+    RP_TRY(check_range(where, "log10_nw_mean", q->log10_nw_mean, RP_ENSEMBLE_LOG10_NW_MIN,
+                       false, RP_ENSEMBLE_LOG10_NW_MAX, err));
+    RP_TRY(check_range(where, "log10_nw_sd", q->log10_nw_sd, 0.0, true, RP_CLIMATE_SD_MAX,
+                       err));
+    RP_TRY(check_range(where, "d0_mean_mm", q->d0_mean_mm, RP_ENSEMBLE_D0_MIN_MM, false,
+                       RP_ENSEMBLE_D0_MAX_MM, err));
+    RP_TRY(check_range(where, "d0_sd_mm", q->d0_sd_mm, 0.0, true, RP_CLIMATE_SD_MAX, err));
+    RP_TRY(check_range(where, "corr_log10_nw_d0", q->corr_log10_nw_d0, -RP_CLIMATE_CORR_MAX,
+                       false, RP_CLIMATE_CORR_MAX, err));
+    if (c->mu_model == RP_MU_GAUSSIAN) {
+      RP_TRY(check_range(where, "mu_mean", q->mu_mean, RP_ENSEMBLE_MU_MIN, false,
+                         RP_ENSEMBLE_MU_MAX, err));
+      RP_TRY(check_range(where, "mu_sd", q->mu_sd, 0.0, false, RP_CLIMATE_MU_SD_MAX, err));
+    }
+    wsum += q->weight;
+  }
+  if (fabs(wsum - 1.0) > RP_CLIMATE_WEIGHT_SUM_TOL)
+    return rp_error_set(err, RP_EINVAL, "climate '%.63s': cluster weights sum to %g, not 1",
+                        c->name, wsum);
+  return RP_OK;
+}
+
+/* ---- drawing ----------------------------------------------------------------------- */
+
+/* Normal(m, s) truncated to [lo, hi] at the uniform deviate u in (0, 1), by inverting
+ * the CDF. The clamp catches the case where both bounds lie so deep in one tail that
+ * the probabilities underflow (the value then is the nearest bound). */
+static double truncated_normal(double u, double m, double s, double lo, double hi) {
+  if (s == 0.0) return fmin(fmax(m, lo), hi);
+  double a = (lo - m) / s, b = (hi - m) / s, x;
+  if (a > 0.0) {
+    double qa = gsl_cdf_ugaussian_Q(a), qb = gsl_cdf_ugaussian_Q(b);
+    x = gsl_cdf_ugaussian_Qinv(qa - u * (qa - qb));
+  } else {
+    double pa = gsl_cdf_ugaussian_P(a), pb = gsl_cdf_ugaussian_P(b);
+    x = gsl_cdf_ugaussian_Pinv(pa + u * (pb - pa));
+  }
+  double v = m + s * x;
+  if (!(v >= lo)) v = lo; /* also NaN and -inf */
+  if (v > hi) v = hi;
+  return v;
+}
+
+double rp_ensemble_mu_zhang2001(double d0_mm) {
+  if (!isfinite(d0_mm) || d0_mm <= 0.0) return (double)NAN;
+  /* 0.016 L^2 + B L + C = 0 with B = D0 - 1.213, C = -(3.67 - 1.957); C < 0, so exactly
+   * one positive root. q = -(B + sign(B) sqrt(B^2 - 4AC))/2, roots q/A and C/q: take
+   * the positive one, which avoids cancellation for either sign of B. */
+  const double A = 0.016, B = d0_mm - 1.213, C = -(3.67 - 1.957);
+  double disc = sqrt(B * B - 4.0 * A * C);
+  double q = -0.5 * (B + (B >= 0.0 ? disc : -disc));
+  double r1 = q / A, r2 = C / q;
+  double lambda = r1 > 0.0 ? r1 : r2;
+  return lambda * d0_mm - 3.67;
+}
+
+rp_status rp_ensemble_draw(const rp_climate *c, size_t n, unsigned long seed,
+                           rp_ensemble_member *out, rp_error *err) {
+  if (c == NULL || out == NULL)
+    return rp_error_set(err, RP_EINVAL, "ensemble: climate or output is NULL");
+  if (n == 0) return rp_error_set(err, RP_EINVAL, "ensemble size 0: need at least 1 member");
+  RP_TRY(rp_climate_validate(c, err));
+  gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+  if (rng == NULL) return rp_error_set(err, RP_ENOMEM, "ensemble: cannot allocate the generator");
+  gsl_rng_set(rng, seed);
+
+  double cum[RP_CLIMATE_MAX_CLUSTERS], wsum = 0.0;
+  for (size_t k = 0; k < c->n_clusters; k++) wsum += c->clusters[k].weight;
+  double acc = 0.0;
+  for (size_t k = 0; k < c->n_clusters; k++) {
+    acc += c->clusters[k].weight;
+    cum[k] = acc / wsum;
+  }
+  for (size_t i = 0; i < n; i++) {
+    double u1 = gsl_rng_uniform_pos(rng), u2 = gsl_rng_uniform_pos(rng);
+    double u3 = gsl_rng_uniform_pos(rng), u4 = gsl_rng_uniform_pos(rng);
+    size_t k = 0;
+    while (k + 1 < c->n_clusters && u1 >= cum[k]) k++;
+    const rp_climate_cluster *q = &c->clusters[k];
+    double d0 = truncated_normal(u2, q->d0_mean_mm, q->d0_sd_mm, RP_ENSEMBLE_D0_MIN_MM,
+                                 RP_ENSEMBLE_D0_MAX_MM);
+    double rho = q->corr_log10_nw_d0;
+    double m_n = q->log10_nw_mean + rho * q->log10_nw_sd * (d0 - q->d0_mean_mm) / q->d0_sd_mm;
+    double s_n = q->log10_nw_sd * sqrt(1.0 - rho * rho);
+    double lnw = truncated_normal(u3, m_n, s_n, RP_ENSEMBLE_LOG10_NW_MIN,
+                                  RP_ENSEMBLE_LOG10_NW_MAX);
+    double mu;
+    if (c->mu_model == RP_MU_ZHANG2001) {
+      mu = fmin(fmax(rp_ensemble_mu_zhang2001(d0), RP_ENSEMBLE_MU_MIN), RP_ENSEMBLE_MU_MAX);
+    } else {
+      mu = truncated_normal(u4, q->mu_mean, q->mu_sd, RP_ENSEMBLE_MU_MIN, RP_ENSEMBLE_MU_MAX);
+    }
+    out[i].log10_nw = lnw;
+    out[i].d0_mm = d0;
+    out[i].mu = mu;
+    out[i].cluster = k;
+  }
+  gsl_rng_free(rng);
+  return RP_OK;
+}
+
+rp_status rp_ensemble_member_dsd(const rp_ensemble_member *m, rp_dsd *d, rp_error *err) {
+  if (m == NULL || d == NULL)
+    return rp_error_set(err, RP_EINVAL, "ensemble member or DSD output is NULL");
+  return rp_dsd_normalized_gamma_d0(d, pow(10.0, m->log10_nw), m->d0_mm, m->mu, err);
+}
+
+/* ---- YAML: pass 1, libyaml scan of the numbers ------------------------------------ */
+
+static const char *const numeric_keys[] = {"weight",     "log10_nw_mean", "log10_nw_sd",
+                                           "d0_mean_mm", "d0_sd_mm",      "corr_log10_nw_d0",
+                                           "mu_mean",    "mu_sd"};
+
+/* [+-] digits [. digits] [(e|E) [+-] digits], at least one mantissa digit. */
+static bool is_plain_decimal(const char *s) {
+  const char *p = s;
+  size_t digits = 0;
+  if (*p == '+' || *p == '-') p++;
+  for (; isdigit((unsigned char)*p); p++) digits++;
+  if (*p == '.')
+    for (p++; isdigit((unsigned char)*p); p++) digits++;
+  if (digits == 0) return false;
+  if (*p == 'e' || *p == 'E') {
+    p++;
+    if (*p == '+' || *p == '-') p++;
+    if (!isdigit((unsigned char)*p)) return false;
+    while (isdigit((unsigned char)*p)) p++;
+  }
+  return *p == '\0';
+}
+
+static bool is_numeric_key(const char *key) {
+  for (size_t i = 0; i < sizeof numeric_keys / sizeof numeric_keys[0]; i++)
+    if (strcmp(key, numeric_keys[i]) == 0) return true;
+  return false;
+}
+
+#define SCAN_DEPTH 8
+typedef struct {
+  bool is_mapping, expect_key;
+  size_t index; /* next entry index in a sequence */
+  char key[64];
+} scan_level;
+
+/* Field path such as "clusters[1].d0_sd_mm" from the open levels. */
+static void scan_path(const scan_level *lv, int depth, char *buf, size_t n) {
+  buf[0] = '\0';
+  for (int i = 0; i < depth && i < SCAN_DEPTH; i++) {
+    size_t len = strlen(buf);
+    if (lv[i].is_mapping)
+      snprintf(buf + len, n - len, "%s%s", len ? "." : "", lv[i].key);
+    else if (lv[i].index > 0)
+      snprintf(buf + len, n - len, "[%zu]", lv[i].index - 1);
+  }
+}
+
+/* After a complete value in the level below depth. */
+static void scan_value_done(scan_level *lv, int depth) {
+  if (depth < 1 || depth > SCAN_DEPTH) return;
+  if (lv[depth - 1].is_mapping) lv[depth - 1].expect_key = true;
+}
+
+/* A new value starts in the level below depth (counts sequence entries). */
+static void scan_value_start(scan_level *lv, int depth) {
+  if (depth >= 1 && depth <= SCAN_DEPTH && !lv[depth - 1].is_mapping) lv[depth - 1].index++;
+}
+
+static rp_status scan_numbers(const char *path, FILE *f, rp_error *err) {
+  yaml_parser_t parser;
+  if (!yaml_parser_initialize(&parser))
+    return rp_error_set(err, RP_ENOMEM, "%s: cannot initialise the YAML parser", path);
+  yaml_parser_set_input_file(&parser, f);
+  scan_level lv[SCAN_DEPTH];
+  memset(lv, 0, sizeof lv);
+  int depth = 0;
+  rp_status s = RP_OK;
+  for (bool done = false; !done && s == RP_OK;) {
+    yaml_event_t ev;
+    if (!yaml_parser_parse(&parser, &ev)) {
+      s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: YAML syntax: %s%s%s", path,
+                       (size_t)parser.problem_mark.line + 1,
+                       (size_t)parser.problem_mark.column + 1,
+                       parser.problem ? parser.problem : "error", parser.context ? " " : "",
+                       parser.context ? parser.context : "");
+      break;
+    }
+    switch (ev.type) {
+      case YAML_MAPPING_START_EVENT:
+      case YAML_SEQUENCE_START_EVENT:
+        scan_value_start(lv, depth);
+        if (depth < SCAN_DEPTH) {
+          lv[depth].is_mapping = ev.type == YAML_MAPPING_START_EVENT;
+          lv[depth].expect_key = true;
+          lv[depth].index = 0;
+          lv[depth].key[0] = '\0';
+        }
+        depth++;
+        break;
+      case YAML_MAPPING_END_EVENT:
+      case YAML_SEQUENCE_END_EVENT:
+        depth--;
+        scan_value_done(lv, depth);
+        break;
+      case YAML_SCALAR_EVENT: {
+        const char *text = (const char *)ev.data.scalar.value;
+        scan_level *top = (depth >= 1 && depth <= SCAN_DEPTH) ? &lv[depth - 1] : NULL;
+        if (top && top->is_mapping && top->expect_key) {
+          snprintf(top->key, sizeof top->key, "%s", text);
+          top->expect_key = false;
+          break;
+        }
+        scan_value_start(lv, depth);
+        if (top && top->is_mapping && is_numeric_key(top->key)) {
+          char field[192];
+          scan_path(lv, depth, field, sizeof field);
+          size_t line = (size_t)ev.start_mark.line + 1, col = (size_t)ev.start_mark.column + 1;
+          if (!is_plain_decimal(text)) {
+            s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: %s: '%s' is not a plain decimal "
+                             "number", path, line, col, field, text);
+          } else {
+            errno = 0;
+            double v = strtod(text, NULL);
+            if (errno == ERANGE || !isfinite(v))
+              s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: %s: '%s' is out of the range "
+                               "of a double", path, line, col, field, text);
+          }
+        }
+        scan_value_done(lv, depth);
+        break;
+      }
+      case YAML_ALIAS_EVENT:
+        scan_value_start(lv, depth);
+        scan_value_done(lv, depth);
+        break;
+      case YAML_STREAM_END_EVENT:
+        done = true;
+        break;
+      default:
+        break;
+    }
+    yaml_event_delete(&ev);
+  }
+  yaml_parser_delete(&parser);
+  return s;
+}
+
+/* ---- YAML: pass 2, libcyaml against the schema ------------------------------------ */
+
+typedef struct {
+  char name[RP_CLIMATE_NAME_LEN];
+  double weight, log10_nw_mean, log10_nw_sd, d0_mean_mm, d0_sd_mm, corr_log10_nw_d0;
+  double *mu_mean, *mu_sd;
+} yaml_cluster;
+
+typedef struct {
+  char name[RP_CLIMATE_NAME_LEN];
+  char source[1024];
+  rp_mu_model mu_model;
+  yaml_cluster *clusters;
+  unsigned clusters_count;
+} yaml_climate;
+
+static const cyaml_strval_t mu_model_strings[] = {
+    {"gaussian", RP_MU_GAUSSIAN},
+    {"zhang2001", RP_MU_ZHANG2001},
+};
+
+#define NUM CYAML_FLAG_STRICT
+#define NUM_OPT (CYAML_FLAG_OPTIONAL | CYAML_FLAG_STRICT)
+static const cyaml_schema_field_t cluster_fields[] = {
+    CYAML_FIELD_STRING("name", CYAML_FLAG_DEFAULT, yaml_cluster, name, 1),
+    CYAML_FIELD_FLOAT("weight", NUM, yaml_cluster, weight),
+    CYAML_FIELD_FLOAT("log10_nw_mean", NUM, yaml_cluster, log10_nw_mean),
+    CYAML_FIELD_FLOAT("log10_nw_sd", NUM, yaml_cluster, log10_nw_sd),
+    CYAML_FIELD_FLOAT("d0_mean_mm", NUM, yaml_cluster, d0_mean_mm),
+    CYAML_FIELD_FLOAT("d0_sd_mm", NUM, yaml_cluster, d0_sd_mm),
+    CYAML_FIELD_FLOAT("corr_log10_nw_d0", NUM, yaml_cluster, corr_log10_nw_d0),
+    CYAML_FIELD_FLOAT_PTR("mu_mean", NUM_OPT, yaml_cluster, mu_mean),
+    CYAML_FIELD_FLOAT_PTR("mu_sd", NUM_OPT, yaml_cluster, mu_sd),
+    CYAML_FIELD_END};
+
+static const cyaml_schema_value_t cluster_schema = {
+    CYAML_VALUE_MAPPING(CYAML_FLAG_DEFAULT, yaml_cluster, cluster_fields)};
+
+static const cyaml_schema_field_t climate_fields[] = {
+    CYAML_FIELD_STRING("name", CYAML_FLAG_DEFAULT, yaml_climate, name, 1),
+    CYAML_FIELD_STRING("source", CYAML_FLAG_DEFAULT, yaml_climate, source, 1),
+    CYAML_FIELD_ENUM("mu_model", CYAML_FLAG_OPTIONAL | CYAML_FLAG_STRICT, yaml_climate,
+                     mu_model, mu_model_strings, CYAML_ARRAY_LEN(mu_model_strings)),
+    CYAML_FIELD_SEQUENCE("clusters", CYAML_FLAG_POINTER, yaml_climate, clusters,
+                         &cluster_schema, 1, RP_CLIMATE_MAX_CLUSTERS),
+    CYAML_FIELD_END};
+
+static const cyaml_schema_value_t climate_schema = {
+    CYAML_VALUE_MAPPING(CYAML_FLAG_POINTER, yaml_climate, climate_fields)};
+
+typedef struct {
+  char text[RP_ERROR_MSG_LEN];
+  unsigned line, column;
+  bool have_pos;
+} log_collect;
+
+/* libcyaml's log_fn: gather ERROR lines into one message, keep the first position. */
+static void collect_log(cyaml_log_t level, void *ctx, const char *fmt, va_list args) {
+  log_collect *lc = ctx;
+  if (level < CYAML_LOG_ERROR) return;
+  char piece[RP_ERROR_MSG_LEN];
+  vsnprintf(piece, sizeof piece, fmt, args);
+  char *p = piece;
+  while (*p == ' ' || *p == '\t') p++;
+  size_t n = strlen(p);
+  while (n > 0 && (p[n - 1] == '\n' || p[n - 1] == ' ')) p[--n] = '\0';
+  if (strncmp(p, "Load: ", 6) == 0) p += 6;
+  if (*p == '\0' || strcmp(p, "Backtrace:") == 0) return;
+  char *pos = strstr(p, " (line: ");
+  if (pos) {
+    unsigned l, c;
+    if (sscanf(pos, " (line: %u, column: %u)", &l, &c) == 2 && !lc->have_pos)
+      lc->line = l, lc->column = c, lc->have_pos = true;
+    *pos = '\0';
+  }
+  size_t len = strlen(lc->text);
+  snprintf(lc->text + len, sizeof lc->text - len, "%s%s", len ? "; " : "", p);
+}
+
+/* ---- YAML: pass 3, conversion and validation -------------------------------------- */
+
+static rp_status convert(const char *path, const yaml_climate *y, rp_climate *c, rp_error *err) {
+  memset(c, 0, sizeof *c);
+  snprintf(c->name, sizeof c->name, "%s", y->name);
+  c->mu_model = y->mu_model;
+  c->n_clusters = y->clusters_count;
+  for (size_t k = 0; k < y->clusters_count; k++) {
+    const yaml_cluster *q = &y->clusters[k];
+    rp_climate_cluster *o = &c->clusters[k];
+    snprintf(o->name, sizeof o->name, "%s", q->name);
+    o->weight = q->weight;
+    o->log10_nw_mean = q->log10_nw_mean;
+    o->log10_nw_sd = q->log10_nw_sd;
+    o->d0_mean_mm = q->d0_mean_mm;
+    o->d0_sd_mm = q->d0_sd_mm;
+    o->corr_log10_nw_d0 = q->corr_log10_nw_d0;
+    if (c->mu_model == RP_MU_GAUSSIAN && (q->mu_mean == NULL || q->mu_sd == NULL))
+      return rp_error_set(err, RP_EPARSE, "%s: clusters[%zu] (\"%s\"): %s missing: mu_model "
+                          "gaussian needs mu_mean and mu_sd", path, k, q->name,
+                          q->mu_mean == NULL ? "mu_mean" : "mu_sd");
+    o->mu_mean = q->mu_mean ? *q->mu_mean : (double)NAN;
+    o->mu_sd = q->mu_sd ? *q->mu_sd : (double)NAN;
+    /* Given with zhang2001, they must still be sensible: the tool may switch models. */
+    if (c->mu_model == RP_MU_ZHANG2001 && (q->mu_mean || q->mu_sd)) {
+      char where[128];
+      snprintf(where, sizeof where, "clusters[%zu] (\"%.63s\"): ", k, q->name);
+      rp_status s = RP_OK;
+      if (q->mu_mean)
+        s = check_range(where, "mu_mean", o->mu_mean, RP_ENSEMBLE_MU_MIN, false,
+                        RP_ENSEMBLE_MU_MAX, err);
+      if (s == RP_OK && q->mu_sd)
+        s = check_range(where, "mu_sd", o->mu_sd, 0.0, false, RP_CLIMATE_MU_SD_MAX, err);
+      if (s != RP_OK) {
+        rp_error_prefix(err, "%s: ", path);
+        if (err) err->status = RP_EPARSE;
+        return RP_EPARSE;
+      }
+    }
+  }
+  if (rp_climate_validate(c, err) != RP_OK) {
+    rp_error_prefix(err, "%s: ", path);
+    if (err) err->status = RP_EPARSE;
+    return RP_EPARSE;
+  }
+  return RP_OK;
+}
+
+rp_status rp_climate_load_yaml(const char *path, rp_climate *c, rp_error *err) {
+  if (path == NULL || c == NULL)
+    return rp_error_set(err, RP_EINVAL, "climate file: path or output is NULL");
+  FILE *f = fopen(path, "rb");
+  if (f == NULL) return rp_error_set(err, RP_EIO, "%s: cannot open: %s", path, strerror(errno));
+  rp_status s = scan_numbers(path, f, err);
+  fclose(f);
+  if (s != RP_OK) return s;
+
+  log_collect lc;
+  memset(&lc, 0, sizeof lc);
+  const cyaml_config_t cfg = {.log_fn = collect_log,
+                              .log_ctx = &lc,
+                              .mem_fn = cyaml_mem,
+                              .log_level = CYAML_LOG_ERROR,
+                              .flags = CYAML_CFG_DEFAULT};
+  yaml_climate *doc = NULL;
+  cyaml_err_t ce = cyaml_load_file(path, &cfg, &climate_schema, (cyaml_data_t **)&doc, NULL);
+  if (ce != CYAML_OK) {
+    if (ce == CYAML_ERR_OOM) return rp_error_set(err, RP_ENOMEM, "%s: out of memory", path);
+    const char *text = lc.text[0] ? lc.text : cyaml_strerror(ce);
+    if (lc.have_pos)
+      return rp_error_set(err, RP_EPARSE, "%s:%u:%u: %s", path, lc.line, lc.column, text);
+    return rp_error_set(err, RP_EPARSE, "%s: %s", path, text);
+  }
+  if (doc == NULL)
+    return rp_error_set(err, RP_EPARSE, "%s: empty file: a climate needs name, source and "
+                        "clusters", path);
+  rp_climate tmp;
+  s = convert(path, doc, &tmp, err);
+  cyaml_free(&cfg, &climate_schema, doc, 0);
+  if (s == RP_OK) *c = tmp;
+  return s;
+}
