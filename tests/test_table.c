@@ -12,7 +12,7 @@ static char tmpdir[256];
 static int setup(void **state) {
   (void)state;
   snprintf(tmpdir, sizeof tmpdir, "%s/test_table_tmp", getenv("RP_BINARY_DIR") ? getenv("RP_BINARY_DIR") : ".");
-  char cmd[512];
+  char cmd[1024];
   snprintf(cmd, sizeof cmd, "rm -rf '%s' && mkdir -p '%s'", tmpdir, tmpdir);
   return system(cmd);
 }

@@ -59,4 +59,21 @@ rp_status rp_table_load(const char *path, rp_table **out, rp_error *err);
  * RP_ETABLE naming the first field that differs. */
 rp_status rp_table_check_match(const rp_table *t, const rp_drop_config *cfg, rp_error *err);
 
+/* Where a table for a request came from. */
+typedef enum { RP_TABLE_SHIPPED, RP_TABLE_CACHED, RP_TABLE_COMPUTED } rp_table_origin;
+const char *rp_table_origin_name(rp_table_origin o); /* "shipped", "cache", "computed" */
+
+/* The table for cfg on the default diameter grid: a matching table among the *.nc files
+ * of shipped_dir (may be NULL), else one in cache_dir (may be NULL), else computed now
+ * and, when cache_dir is given, saved there (the folder is created; a cache that cannot
+ * be written is not an error). Tables that fail to load or do not match are skipped.
+ * Caller frees *out. Statuses as rp_table_build. */
+rp_status rp_table_obtain(const rp_drop_config *cfg, const char *shipped_dir,
+                          const char *cache_dir, rp_table **out, rp_table_origin *origin,
+                          rp_error *err);
+
+/* Cache file name (no folder) for cfg, e.g.
+ * "table_5.6000GHz_10.00C_thurai_planar7.00_el0.00_tmatrix.nc". */
+void rp_table_cache_name(const rp_drop_config *cfg, char *buf, size_t n);
+
 #endif

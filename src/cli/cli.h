@@ -9,6 +9,7 @@
 #include <stdio.h>
 
 #include "rainprint/drop.h"
+#include "rainprint/dsd.h"
 #include "rainprint/status.h"
 
 /* Exit codes of the tool. */
@@ -78,8 +79,68 @@ json_t *rp_json_real(double x);
 /* Print a JSON value to stdout (indent 2, 10 significant digits) and release it. */
 int rp_json_print(json_t *root);
 
+/* Where the tool finds its data: $RAINPRINT_TABLES / $RAINPRINT_PRESETS, else the
+ * source tree's scattering/ and dsd-presets/; the table cache is $RAINPRINT_CACHE, else
+ * $XDG_CACHE_HOME/rainprint, else $HOME/.cache/rainprint (NULL if none). */
+const char *rp_cli_tables_dir(void);
+const char *rp_cli_presets_dir(void);
+const char *rp_cli_cache_dir(void);
+
+/* The DSD options shared by gate/curve: --preset NAME, --dsd MODEL with --n0, --lambda,
+ * --mu, --nw, --d0, --dm, --rain-rate; --spectrum FILE.csv with --row N; --dmin, --dmax. */
+enum {
+  RP_OPT_PRESET = 1100, RP_OPT_DSD, RP_OPT_N0, RP_OPT_LAMBDA, RP_OPT_MU, RP_OPT_NW, RP_OPT_D0,
+  RP_OPT_DM, RP_OPT_RAIN_RATE, RP_OPT_SPECTRUM, RP_OPT_ROW, RP_OPT_DMIN, RP_OPT_DMAX,
+  RP_OPT_KW2
+};
+#define RP_CLI_DSD_LONGOPTS                                                \
+  {"preset", required_argument, NULL, RP_OPT_PRESET},                      \
+  {"dsd", required_argument, NULL, RP_OPT_DSD},                            \
+  {"n0", required_argument, NULL, RP_OPT_N0},                              \
+  {"lambda", required_argument, NULL, RP_OPT_LAMBDA},                      \
+  {"mu", required_argument, NULL, RP_OPT_MU},                              \
+  {"nw", required_argument, NULL, RP_OPT_NW},                              \
+  {"d0", required_argument, NULL, RP_OPT_D0},                              \
+  {"dm", required_argument, NULL, RP_OPT_DM},                              \
+  {"rain-rate", required_argument, NULL, RP_OPT_RAIN_RATE},                \
+  {"spectrum", required_argument, NULL, RP_OPT_SPECTRUM},                  \
+  {"row", required_argument, NULL, RP_OPT_ROW},                            \
+  {"dmin", required_argument, NULL, RP_OPT_DMIN},                          \
+  {"dmax", required_argument, NULL, RP_OPT_DMAX},                          \
+  {"kw2", required_argument, NULL, RP_OPT_KW2}
+
+extern const char rp_cli_dsd_help[];
+
+typedef struct {
+  const char *preset, *model, *spectrum;
+  double n0, lambda, mu, nw, d0, dm, rain_rate, dmin, dmax, kw2;
+  unsigned given;   /* bit per RP_OPT_N0..RP_OPT_RAIN_RATE */
+  long row;         /* 1-based spectrum row */
+} rp_cli_dsd;
+
+void rp_cli_dsd_init(rp_cli_dsd *o);
+int rp_cli_dsd_option(const char *cmd, rp_cli_dsd *o, int code, const char *arg);
+
+/* A built DSD with what it borrows. */
+typedef struct {
+  rp_dsd dsd;
+  char label[128];       /* preset name, model name or "file row N (label)" */
+  void *spectrum_set;    /* owned rp_spectrum_set, or NULL */
+} rp_cli_dsd_built;
+
+/* Build the DSD from the options (RP_OK) or report (returns the exit code). */
+int rp_cli_dsd_build(const char *cmd, const rp_cli_dsd *o, rp_cli_dsd_built *out);
+void rp_cli_dsd_release(rp_cli_dsd_built *b);
+
+/* Parse "S,C,X" into up to max frequencies and band letters (NULL for none).
+ * Returns the count, or -1 after printing a message. */
+int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const char **names,
+                       int max);
+
 /* Commands. */
 int rp_cmd_drop(int argc, char **argv);
 int rp_cmd_table(int argc, char **argv);
+int rp_cmd_gate(int argc, char **argv);
+int rp_cmd_presets(int argc, char **argv);
 
 #endif

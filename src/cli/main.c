@@ -6,11 +6,14 @@
 #include <gsl/gsl_errno.h>
 
 #include "cli/cli.h"
+#include "cli/gate_run.h"
 
 static const rp_cli_command commands[] = {
     {"drop", "scattering of one drop: amplitudes, cross-sections, axis ratio", rp_cmd_drop},
     {"table", "build a scattering table (netCDF) for a band, temperature, shape, canting",
      rp_cmd_table},
+    {"gate", "radar variables of one DSD at one or more bands, with the DSD's moments", rp_cmd_gate},
+    {"presets", "list the named rains with their parameters and S-band values", rp_cmd_presets},
 };
 #define N_COMMANDS (sizeof commands / sizeof commands[0])
 
@@ -45,7 +48,11 @@ int main(int argc, char **argv) {
     return RP_EXIT_OK;
   }
   for (size_t i = 0; i < N_COMMANDS; i++) {
-    if (strcmp(argv[1], commands[i].name) == 0) return commands[i].run(argc - 1, argv + 1);
+    if (strcmp(argv[1], commands[i].name) == 0) {
+      const int rc = commands[i].run(argc - 1, argv + 1);
+      rp_gate_run_cleanup();
+      return rc;
+    }
   }
   fprintf(stderr, "rainprint: unknown command '%s' (see rainprint --help)\n", argv[1]);
   return RP_EXIT_USAGE;

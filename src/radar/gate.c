@@ -439,13 +439,28 @@ static rp_status eval_spectrum(const rp_gate_plan *p, const rp_dsd *d, double s[
                           "concentration %g m^-3 mm^-1) is malformed", i, c, w, n);
     if (n == 0.0 || c < d->dmin_mm || c > d->dmax_mm) continue;
     double lo = c - 0.5 * w, hi = c + 0.5 * w;
-    if (lo < tmin - D_SLACK_MM || hi > tmax + D_SLACK_MM)
+    if (lo < 0.0 || hi > tmax + D_SLACK_MM)
       return rp_error_set(err, RP_EDOM,
                           "gate: spectrum bin %zu [%g, %g] mm not within the table's "
-                          "diameter range [%g, %g] mm", i, lo, hi, tmin, tmax);
-    lo = fmax(lo, tmin);
-    hi = fmin(hi, tmax);
+                          "diameter range [0, %g] mm", i, lo, hi, tmax);
     double acc[NQ] = {0};
+    if (lo < tmin) {
+      /* Below the table's smallest drop the Rayleigh scaling q ~ D^p holds (p = 6 for
+       * backscatter, 3 for forward quantities): integrate q(tmin) (D/tmin)^p exactly. */
+      double q0[NQ];
+      RP_TRY(spline_q(p, tmin, q0, err));
+      const double top = fmin(hi, tmin);
+      for (int k = 0; k < NQ; k++) {
+        const double e = q_power[k] + 1.0;
+        acc[k] += q0[k] * (pow(top, e) - pow(lo, e)) / (e * pow(tmin, q_power[k]));
+      }
+      lo = top;
+    }
+    hi = fmin(hi, tmax);
+    if (lo >= hi) {
+      for (int k = 0; k < NQ; k++) s[k] += n * acc[k];
+      continue;
+    }
     RP_TRY(bin_integral(p, lo, hi, acc, err));
     for (int k = 0; k < NQ; k++) s[k] += n * acc[k];
   }

@@ -12,6 +12,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <dirent.h>
+#include <errno.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #ifdef _OPENMP
@@ -408,5 +411,101 @@ rp_status rp_table_check_match(const rp_table *t, const rp_drop_config *cfg, rp_
   if (c->method != cfg->method)
     return rp_error_set(err, RP_ETABLE, "table is for method %s, not %s",
                         rp_method_name(c->method), rp_method_name(cfg->method));
+  return RP_OK;
+}
+
+/* ---- obtain: shipped, cached or computed ---------------------------------------- */
+
+const char *rp_table_origin_name(rp_table_origin o) {
+  switch (o) {
+    case RP_TABLE_SHIPPED: return "shipped";
+    case RP_TABLE_CACHED: return "cache";
+    default: return "computed";
+  }
+}
+
+void rp_table_cache_name(const rp_drop_config *cfg, char *buf, size_t n) {
+  char shape[64];
+  if (cfg->axis_ratio_fixed > 0.0)
+    snprintf(shape, sizeof shape, "ar%.4f", cfg->axis_ratio_fixed);
+  else
+    snprintf(shape, sizeof shape, "%s", rp_shape_name(cfg->shape));
+  snprintf(buf, n, "table_%.4fGHz_%.2fC_%s_%s%s%.2f_el%.2f_%s.nc", cfg->freq_ghz, cfg->temp_c,
+           shape, rp_canting_model_name(cfg->canting_model), cfg->canting_approx ? "approx" : "",
+           cfg->canting_sd_deg, cfg->elevation_deg, rp_method_name(cfg->method));
+}
+
+static int is_default_grid(const rp_table *t) {
+  return t->n >= 2 && fabs(t->d_mm[0] - RP_TABLE_DMIN_DEFAULT_MM) < 1e-9 &&
+         fabs(t->d_mm[t->n - 1] - RP_TABLE_DMAX_DEFAULT_MM) < 1e-9 &&
+         fabs(t->d_mm[1] - t->d_mm[0] - RP_TABLE_DSTEP_DEFAULT_MM) < 1e-9;
+}
+
+/* A loadable, matching table on the default grid at path, or NULL. */
+static rp_table *try_table(const char *path, const rp_drop_config *cfg) {
+  rp_table *t = NULL;
+  rp_error ignored = {0};
+  if (rp_table_load(path, &t, &ignored) != RP_OK) return NULL;
+  if (rp_table_check_match(t, cfg, &ignored) != RP_OK || !is_default_grid(t)) {
+    rp_table_free(t);
+    return NULL;
+  }
+  return t;
+}
+
+static rp_table *find_in_dir(const char *dir, const rp_drop_config *cfg) {
+  DIR *d = opendir(dir);
+  if (d == NULL) return NULL;
+  rp_table *found = NULL;
+  struct dirent *e;
+  char path[4096];
+  while (found == NULL && (e = readdir(d)) != NULL) {
+    const size_t len = strlen(e->d_name);
+    if (len < 4 || strcmp(e->d_name + len - 3, ".nc") != 0) continue;
+    if (snprintf(path, sizeof path, "%s/%s", dir, e->d_name) >= (int)sizeof path) continue;
+    found = try_table(path, cfg);
+  }
+  closedir(d);
+  return found;
+}
+
+static void make_dirs(const char *dir) {
+  char buf[4096];
+  if (snprintf(buf, sizeof buf, "%s", dir) >= (int)sizeof buf) return;
+  for (char *p = buf + 1; *p; p++) {
+    if (*p == '/') {
+      *p = '\0';
+      mkdir(buf, 0777);
+      *p = '/';
+    }
+  }
+  mkdir(buf, 0777);
+}
+
+rp_status rp_table_obtain(const rp_drop_config *cfg, const char *shipped_dir,
+                          const char *cache_dir, rp_table **out, rp_table_origin *origin,
+                          rp_error *err) {
+  *out = NULL;
+  RP_TRY(rp_drop_config_check(cfg, err));
+  if (shipped_dir != NULL && (*out = find_in_dir(shipped_dir, cfg)) != NULL) {
+    if (origin) *origin = RP_TABLE_SHIPPED;
+    return RP_OK;
+  }
+  char name[256], path[4096];
+  rp_table_cache_name(cfg, name, sizeof name);
+  const int have_cache =
+      cache_dir != NULL && snprintf(path, sizeof path, "%s/%s", cache_dir, name) < (int)sizeof path;
+  if (have_cache && (*out = try_table(path, cfg)) != NULL) {
+    if (origin) *origin = RP_TABLE_CACHED;
+    return RP_OK;
+  }
+  RP_TRY(rp_table_build(cfg, RP_TABLE_DMIN_DEFAULT_MM, RP_TABLE_DMAX_DEFAULT_MM,
+                        RP_TABLE_DSTEP_DEFAULT_MM, out, err));
+  if (origin) *origin = RP_TABLE_COMPUTED;
+  if (have_cache) {
+    make_dirs(cache_dir);
+    rp_error ignored = {0};
+    (void)rp_table_save(*out, path, &ignored); /* a read-only cache only costs time */
+  }
   return RP_OK;
 }

@@ -1,0 +1,222 @@
+/* cli_dsd.c — the DSD options shared by commands, data folders, band lists. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+
+#include "cli/cli.h"
+#include "rainprint/presets.h"
+#include "rainprint/spectrum.h"
+
+const char *rp_cli_tables_dir(void) {
+  const char *e = getenv("RAINPRINT_TABLES");
+  return (e && *e) ? e : RP_SOURCE_DIR "/scattering";
+}
+
+const char *rp_cli_presets_dir(void) {
+  const char *e = getenv("RAINPRINT_PRESETS");
+  return (e && *e) ? e : RP_SOURCE_DIR "/dsd-presets";
+}
+
+const char *rp_cli_cache_dir(void) {
+  static char buf[4096]; /* tool layer only: one thread */
+  const char *e = getenv("RAINPRINT_CACHE");
+  if (e && *e) return e;
+  const char *x = getenv("XDG_CACHE_HOME");
+  if (x && *x && snprintf(buf, sizeof buf, "%s/rainprint", x) < (int)sizeof buf) return buf;
+  const char *h = getenv("HOME");
+  if (h && *h && snprintf(buf, sizeof buf, "%s/.cache/rainprint", h) < (int)sizeof buf) return buf;
+  return NULL;
+}
+
+const char rp_cli_dsd_help[] =
+    "DSD (one of):\n"
+    "  --preset NAME          a named rain (rainprint presets lists them)\n"
+    "  --dsd MODEL            exponential (--n0, --lambda), marshall-palmer (--rain-rate),\n"
+    "                         gamma (--n0, --mu, --lambda), normalized-gamma (--nw, --mu,\n"
+    "                         and --d0 or --dm)\n"
+    "  --spectrum FILE.csv    a measured spectrum (docs/guide.md: format); --row N picks\n"
+    "                         the N-th data row (default 1)\n"
+    "  --n0 X                 intercept (m^-3 mm^-1-mu)\n"
+    "  --lambda X             slope (mm^-1)\n"
+    "  --mu X                 shape parameter\n"
+    "  --nw X                 normalised intercept (m^-3 mm^-1)\n"
+    "  --d0 MM, --dm MM       median-volume / mass-weighted mean diameter\n"
+    "  --rain-rate MM_H       rain rate for marshall-palmer\n"
+    "  --dmin MM, --dmax MM   truncation of analytic DSDs (default 0.1 and 8)\n"
+    "  --kw2 X                |K_w|^2 used to form Z (default 0.93)\n";
+
+void rp_cli_dsd_init(rp_cli_dsd *o) {
+  memset(o, 0, sizeof *o);
+  o->dmin = RP_DSD_DMIN_DEFAULT_MM;
+  o->dmax = RP_DSD_DMAX_DEFAULT_MM;
+  o->kw2 = 0.93;
+  o->row = 1;
+}
+
+static const char *const param_names[] = {"n0", "lambda", "mu", "nw", "d0", "dm", "rain-rate"};
+#define GIVEN(code) (1u << ((code) - RP_OPT_N0))
+
+int rp_cli_dsd_option(const char *cmd, rp_cli_dsd *o, int code, const char *arg) {
+  double *slot = NULL;
+  switch (code) {
+    case RP_OPT_PRESET: o->preset = arg; return 1;
+    case RP_OPT_DSD: o->model = arg; return 1;
+    case RP_OPT_SPECTRUM: o->spectrum = arg; return 1;
+    case RP_OPT_ROW:
+      if (rp_cli_parse_long(cmd, "row", arg, &o->row)) return -RP_EXIT_USAGE;
+      if (o->row < 1) {
+        rp_cli_fail(cmd, RP_EINVAL, "--row %ld: rows are numbered from 1", o->row);
+        return -RP_EXIT_USAGE;
+      }
+      return 1;
+    case RP_OPT_DMIN: return rp_cli_parse_double(cmd, "dmin", arg, &o->dmin) ? -RP_EXIT_USAGE : 1;
+    case RP_OPT_DMAX: return rp_cli_parse_double(cmd, "dmax", arg, &o->dmax) ? -RP_EXIT_USAGE : 1;
+    case RP_OPT_KW2:
+      if (rp_cli_parse_double(cmd, "kw2", arg, &o->kw2)) return -RP_EXIT_USAGE;
+      if (!(o->kw2 > 0.0 && o->kw2 <= 1.0)) {
+        rp_cli_fail(cmd, RP_EDOM, "--kw2 %g outside (0, 1]", o->kw2);
+        return -RP_EXIT_USAGE;
+      }
+      return 1;
+    case RP_OPT_N0: slot = &o->n0; break;
+    case RP_OPT_LAMBDA: slot = &o->lambda; break;
+    case RP_OPT_MU: slot = &o->mu; break;
+    case RP_OPT_NW: slot = &o->nw; break;
+    case RP_OPT_D0: slot = &o->d0; break;
+    case RP_OPT_DM: slot = &o->dm; break;
+    case RP_OPT_RAIN_RATE: slot = &o->rain_rate; break;
+    default: return 0;
+  }
+  if (rp_cli_parse_double(cmd, param_names[code - RP_OPT_N0], arg, slot)) return -RP_EXIT_USAGE;
+  o->given |= GIVEN(code);
+  return 1;
+}
+
+/* The parameters a model takes; anything else given is an error, as is a missing one. */
+static int check_params(const char *cmd, const char *model, unsigned given, unsigned required,
+                        unsigned optional) {
+  for (int c = RP_OPT_N0; c <= RP_OPT_RAIN_RATE; c++) {
+    if ((required & GIVEN(c)) && !(given & GIVEN(c)))
+      return rp_cli_fail(cmd, RP_EINVAL, "--dsd %s needs --%s", model, param_names[c - RP_OPT_N0]);
+    if ((given & GIVEN(c)) && !((required | optional) & GIVEN(c)))
+      return rp_cli_fail(cmd, RP_EINVAL, "--%s does not apply to --dsd %s",
+                         param_names[c - RP_OPT_N0], model);
+  }
+  return 0;
+}
+
+static int build_model(const char *cmd, const rp_cli_dsd *o, rp_cli_dsd_built *out) {
+  rp_error err = {0};
+  rp_status s;
+  const char *m = o->model;
+  int bad;
+  if (strcmp(m, "exponential") == 0) {
+    if ((bad = check_params(cmd, m, o->given, GIVEN(RP_OPT_N0) | GIVEN(RP_OPT_LAMBDA), 0))) return bad;
+    s = rp_dsd_exponential(&out->dsd, o->n0, o->lambda, &err);
+  } else if (strcmp(m, "marshall-palmer") == 0) {
+    if ((bad = check_params(cmd, m, o->given, GIVEN(RP_OPT_RAIN_RATE), 0))) return bad;
+    s = rp_dsd_marshall_palmer(&out->dsd, o->rain_rate, &err);
+  } else if (strcmp(m, "gamma") == 0) {
+    if ((bad = check_params(cmd, m, o->given,
+                            GIVEN(RP_OPT_N0) | GIVEN(RP_OPT_MU) | GIVEN(RP_OPT_LAMBDA), 0)))
+      return bad;
+    s = rp_dsd_gamma(&out->dsd, o->n0, o->mu, o->lambda, &err);
+  } else if (strcmp(m, "normalized-gamma") == 0) {
+    const int has_d0 = (o->given & GIVEN(RP_OPT_D0)) != 0, has_dm = (o->given & GIVEN(RP_OPT_DM)) != 0;
+    if (has_d0 == has_dm)
+      return rp_cli_fail(cmd, RP_EINVAL, "--dsd normalized-gamma needs exactly one of --d0 and --dm");
+    const unsigned req = GIVEN(RP_OPT_NW) | GIVEN(RP_OPT_MU) | (has_d0 ? GIVEN(RP_OPT_D0) : GIVEN(RP_OPT_DM));
+    if ((bad = check_params(cmd, m, o->given, req, 0))) return bad;
+    s = has_d0 ? rp_dsd_normalized_gamma_d0(&out->dsd, o->nw, o->d0, o->mu, &err)
+               : rp_dsd_normalized_gamma_dm(&out->dsd, o->nw, o->dm, o->mu, &err);
+  } else {
+    return rp_cli_fail(cmd, RP_EINVAL,
+                       "--dsd: unknown model '%s' (expected exponential, marshall-palmer, gamma "
+                       "or normalized-gamma)",
+                       m);
+  }
+  if (s != RP_OK) return rp_cli_fail(cmd, s, "--dsd %s: %s", m, err.msg);
+  snprintf(out->label, sizeof out->label, "%s", m);
+  return 0;
+}
+
+static int build_spectrum(const char *cmd, const rp_cli_dsd *o, rp_cli_dsd_built *out) {
+  rp_error err = {0};
+  rp_spectrum_set *set = NULL;
+  if (rp_spectrum_load(o->spectrum, &set, &err) != RP_OK) return rp_cli_fail_err(cmd, &err);
+  out->spectrum_set = set;
+  if ((size_t)o->row > set->n_rows)
+    return rp_cli_fail(cmd, RP_EINVAL, "%s: --row %ld but the file has %zu data rows", o->spectrum,
+                       o->row, set->n_rows);
+  const size_t row = (size_t)o->row - 1;
+  if (rp_spectrum_row_dsd(set, row, &out->dsd, &err) != RP_OK) return rp_cli_fail_err(cmd, &err);
+  snprintf(out->label, sizeof out->label, "%s row %ld%s%s", o->spectrum, o->row,
+           set->labels && set->labels[row] && set->labels[row][0] ? " " : "",
+           set->labels && set->labels[row] ? set->labels[row] : "");
+  return 0;
+}
+
+int rp_cli_dsd_build(const char *cmd, const rp_cli_dsd *o, rp_cli_dsd_built *out) {
+  memset(out, 0, sizeof *out);
+  const int n_sources = (o->preset != NULL) + (o->model != NULL) + (o->spectrum != NULL);
+  if (n_sources != 1)
+    return rp_cli_fail(cmd, RP_EINVAL, "give exactly one of --preset, --dsd and --spectrum");
+  if (o->model == NULL && o->given)
+    return rp_cli_fail(cmd, RP_EINVAL, "DSD parameters (--n0, --mu, ...) go with --dsd");
+  int rc;
+  if (o->preset != NULL) {
+    rp_preset p;
+    rp_error err = {0};
+    if (rp_preset_find(rp_cli_presets_dir(), o->preset, &p, &err) != RP_OK)
+      return rp_cli_fail(cmd, err.status, "--preset: %s", err.msg);
+    out->dsd = p.dsd;
+    snprintf(out->label, sizeof out->label, "%s", p.name);
+    rc = 0;
+  } else if (o->model != NULL) {
+    rc = build_model(cmd, o, out);
+  } else {
+    return build_spectrum(cmd, o, out); /* spectra keep their own bins */
+  }
+  if (rc) return rc;
+  rp_error err = {0};
+  if (rp_dsd_set_truncation(&out->dsd, o->dmin, o->dmax, &err) != RP_OK)
+    return rp_cli_fail(cmd, err.status, "--dmin/--dmax: %s", err.msg);
+  return 0;
+}
+
+void rp_cli_dsd_release(rp_cli_dsd_built *b) {
+  rp_spectrum_free(b->spectrum_set);
+  b->spectrum_set = NULL;
+}
+
+int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const char **names,
+                       int max) {
+  static const char *const known[] = {"S", "C", "X", "Ku", "Ka"};
+  int n = 0;
+  const char *p = text;
+  while (*p) {
+    const char *comma = strchr(p, ',');
+    const size_t len = comma ? (size_t)(comma - p) : strlen(p);
+    char tok[16];
+    if (len == 0 || len >= sizeof tok || n >= max) {
+      rp_cli_fail(cmd, RP_EINVAL, "--band: '%s' is not a list such as S,C,X", text);
+      return -1;
+    }
+    memcpy(tok, p, len);
+    tok[len] = '\0';
+    rp_error err = {0};
+    if (rp_band_frequency_ghz(tok, &freqs[n], &err) != RP_OK) {
+      rp_cli_fail(cmd, RP_EINVAL, "--band: %s", err.msg);
+      return -1;
+    }
+    names[n] = NULL;
+    for (size_t k = 0; k < sizeof known / sizeof known[0]; k++)
+      if (strcasecmp(tok, known[k]) == 0) names[n] = known[k];
+    n++;
+    p += len;
+    if (*p == ',') p++;
+  }
+  if (n == 0) rp_cli_fail(cmd, RP_EINVAL, "--band: empty list");
+  return n > 0 ? n : -1;
+}
