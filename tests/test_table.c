@@ -187,6 +187,38 @@ static void test_shipped_table_regenerates(void **state) {
   rp_table_free(shipped);
 }
 
+static void test_table_obtain_prefers_shipped_then_cache(void **state) {
+  (void)state;
+  char shipped[512], cache[512];
+  rp_test_source_path("scattering", shipped, sizeof shipped);
+  tmp_path("cache/nested", cache, sizeof cache);
+  rp_drop_config c;
+  rp_drop_config_default(&c); /* C band, 10 C: a shipped table */
+  rp_table *t = NULL;
+  rp_table_origin o;
+  rp_error err = {0};
+  assert_int_equal(rp_table_obtain(&c, shipped, cache, &t, &o, &err), RP_OK);
+  assert_int_equal(o, RP_TABLE_SHIPPED);
+  assert_int_equal(rp_table_check_match(t, &c, &err), RP_OK);
+  rp_table_free(t);
+  c.canting_sd_deg = 3.0; /* not shipped: computed, then found in the cache */
+  assert_int_equal(rp_table_obtain(&c, shipped, cache, &t, &o, &err), RP_OK);
+  assert_int_equal(o, RP_TABLE_COMPUTED);
+  rp_table_free(t);
+  assert_int_equal(rp_table_obtain(&c, shipped, cache, &t, &o, &err), RP_OK);
+  assert_int_equal(o, RP_TABLE_CACHED);
+  assert_int_equal(rp_table_check_match(t, &c, &err), RP_OK);
+  rp_table_free(t);
+  /* no folders at all: computed */
+  assert_int_equal(rp_table_obtain(&c, NULL, NULL, &t, &o, &err), RP_OK);
+  assert_int_equal(o, RP_TABLE_COMPUTED);
+  rp_table_free(t);
+  c.temp_c = 99.0;
+  assert_int_not_equal(rp_table_obtain(&c, shipped, cache, &t, &o, &err), RP_OK);
+  assert_null(t);
+  assert_string_equal(rp_table_origin_name(RP_TABLE_CACHED), "cache");
+}
+
 int main(void) {
   rp_test_init();
   const struct CMUnitTest tests[] = {
@@ -196,6 +228,7 @@ int main(void) {
       cmocka_unit_test(test_table_save_failure_leaves_no_file),
       cmocka_unit_test(test_table_build_refuses_bad_grid),
       cmocka_unit_test(test_shipped_table_regenerates),
+      cmocka_unit_test(test_table_obtain_prefers_shipped_then_cache),
   };
   return cmocka_run_group_tests_name("table", tests, setup, NULL);
 }

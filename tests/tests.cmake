@@ -3,7 +3,8 @@ set(RP_TEST_ENV
     "LSAN_OPTIONS=suppressions=${CMAKE_SOURCE_DIR}/tests/lsan.supp"
     "RP_SOURCE_DIR=${CMAKE_SOURCE_DIR}"
     "RP_BINARY_DIR=${CMAKE_BINARY_DIR}"
-    "OMP_NUM_THREADS=2")
+    "OMP_NUM_THREADS=2"
+    "RAINPRINT_CACHE=${CMAKE_BINARY_DIR}/table-cache")
 file(GLOB RP_TEST_SOURCES CONFIGURE_DEPENDS ${CMAKE_SOURCE_DIR}/tests/test_*.c)
 foreach(src ${RP_TEST_SOURCES})
   get_filename_component(name ${src} NAME_WE)
