@@ -36,3 +36,12 @@ foreach(script ${RP_CLI_SCRIPTS})
            COMMAND bash ${script} $<TARGET_FILE:rainprint-cli> ${CMAKE_BINARY_DIR})
   set_tests_properties(cli_${name} PROPERTIES ENVIRONMENT "${RP_TEST_ENV}")
 endforeach()
+
+# The tool under valgrind (not in the sanitizer build: the two do not mix).
+find_program(RP_VALGRIND valgrind)
+if(RP_VALGRIND AND NOT RP_SANITIZE)
+  add_test(NAME valgrind_tool
+           COMMAND bash ${CMAKE_SOURCE_DIR}/tests/valgrind/tool.sh $<TARGET_FILE:rainprint-cli>
+                   ${CMAKE_BINARY_DIR})
+  set_tests_properties(valgrind_tool PROPERTIES ENVIRONMENT "${RP_TEST_ENV}")
+endif()
