@@ -60,8 +60,9 @@ rp_status rp_table_load(const char *path, rp_table **out, rp_error *err);
 rp_status rp_table_check_match(const rp_table *t, const rp_drop_config *cfg, rp_error *err);
 
 /* Where a table for a request came from. */
-typedef enum { RP_TABLE_SHIPPED, RP_TABLE_CACHED, RP_TABLE_COMPUTED } rp_table_origin;
-const char *rp_table_origin_name(rp_table_origin o); /* "shipped", "cache", "computed" */
+typedef enum { RP_TABLE_SHIPPED, RP_TABLE_CACHED, RP_TABLE_COMPUTED, RP_TABLE_GIVEN } rp_table_origin;
+/* "shipped", "cache", "computed", "given" (a file the user named) */
+const char *rp_table_origin_name(rp_table_origin o);
 
 /* The table for cfg on the default diameter grid: a matching table among the *.nc files
  * of shipped_dir (may be NULL), else one in cache_dir (may be NULL), else computed now

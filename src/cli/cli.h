@@ -62,6 +62,7 @@ typedef struct {
   rp_drop_config cfg;
   const char *band;      /* band letter given, or NULL */
   int have_frequency;
+  int n_scatter_given;   /* how many scattering options (not --json/--help) were given */
   int json;
   int help;
 } rp_cli_scatter;

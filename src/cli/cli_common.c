@@ -70,6 +70,7 @@ void rp_cli_scatter_init(rp_cli_scatter *s) {
 
 int rp_cli_scatter_option(const char *cmd, rp_cli_scatter *s, int code, const char *arg) {
   rp_error err = {0};
+  if (code >= RP_OPT_BAND && code <= RP_OPT_METHOD) s->n_scatter_given++;
   switch (code) {
     case RP_OPT_BAND:
       s->band = arg;

@@ -18,18 +18,49 @@ static const char gate_help[] =
     "  --band S,C,X --frequency GHZ --temperature C --shape MODEL --axis-ratio R\n"
     "  --canting-sd DEG --canting-model planar|3d --canting-approx --elevation DEG\n"
     "  --method tmatrix|rayleigh --json --help\n"
+    "  --table FILE.nc        use this scattering table (from `rainprint table`) for its\n"
+    "                         one band; scattering options given too must agree with it\n"
+    "                         (e.g. rainprint gate --preset gentle-stratiform --table x.nc)\n"
     "\n"
     "Examples:\n"
     "  rainprint gate --preset maritime-downpour\n"
     "  rainprint gate --dsd normalized-gamma --nw 8000 --d0 1.5 --mu 3 --band X --json\n";
 
+enum { OPT_TABLE = RP_OPT_FIRST_FREE };
+
+/* --table FILE.nc: load and check it. Its inputs become the request; scattering options
+ * given as well are applied on top (argv is parsed again) and must leave it unchanged. */
+static int use_table(const char *path, int argc, char **argv, const struct option *longopts,
+                     rp_cli_scatter *s, rp_gate_request *req, rp_table **t) {
+  rp_error err = {0};
+  if (rp_table_load(path, t, &err) != RP_OK) return rp_cli_fail_err("gate", &err);
+  s->cfg = (*t)->cfg;
+  int code;
+  optind = 1;
+  while ((code = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
+    if (code == RP_OPT_BAND && rp_band_frequency_ghz(optarg, &s->cfg.freq_ghz, &err) != RP_OK)
+      return rp_cli_fail("gate", RP_EINVAL, "--table takes at most one band: %s", err.msg);
+    if (code >= RP_OPT_FREQUENCY && code <= RP_OPT_METHOD)
+      (void)rp_cli_scatter_option("gate", s, code, optarg); /* values were checked before */
+  }
+  if (rp_table_check_match(*t, &s->cfg, &err) != RP_OK)
+    return rp_cli_fail("gate", RP_ETABLE, "%s: %s", path, err.msg);
+  req->n_bands = 1;
+  req->freq_ghz[0] = s->cfg.freq_ghz;
+  req->band[0] = rp_band_of_frequency(s->cfg.freq_ghz);
+  req->table = *t;
+  return 0;
+}
+
 int rp_cmd_gate(int argc, char **argv) {
-  static const struct option longopts[] = {RP_CLI_SCATTER_LONGOPTS, RP_CLI_DSD_LONGOPTS, {0, 0, 0, 0}};
+  static const struct option longopts[] = {RP_CLI_SCATTER_LONGOPTS, RP_CLI_DSD_LONGOPTS,
+                                           {"table", required_argument, NULL, OPT_TABLE},
+                                           {0, 0, 0, 0}};
   rp_cli_scatter s;
   rp_cli_dsd o;
   rp_cli_scatter_init(&s);
   rp_cli_dsd_init(&o);
-  const char *band_list = NULL;
+  const char *band_list = NULL, *table_path = NULL;
   int code;
   optind = 1;
   opterr = 0;
@@ -39,6 +70,11 @@ int rp_cmd_gate(int argc, char **argv) {
                          argv[optind - 1]);
     if (code == RP_OPT_BAND) {
       band_list = optarg;
+      s.n_scatter_given++;
+      continue;
+    }
+    if (code == OPT_TABLE) {
+      table_path = optarg;
       continue;
     }
     int h = rp_cli_dsd_option("gate", &o, code, optarg);
@@ -55,7 +91,14 @@ int rp_cmd_gate(int argc, char **argv) {
 
   rp_gate_request req;
   memset(&req, 0, sizeof req);
-  if (s.have_frequency) {
+  rp_table *table = NULL;
+  if (table_path != NULL) {
+    const int rc = use_table(table_path, argc, argv, longopts, &s, &req, &table);
+    if (rc) {
+      rp_table_free(table);
+      return rc;
+    }
+  } else if (s.have_frequency) {
     req.n_bands = 1;
     req.freq_ghz[0] = s.cfg.freq_ghz;
     req.band[0] = rp_band_of_frequency(s.cfg.freq_ghz);
@@ -66,9 +109,14 @@ int rp_cmd_gate(int argc, char **argv) {
     s.cfg.freq_ghz = req.freq_ghz[0];
   }
   const int fin = rp_cli_scatter_finish("gate", &s);
-  if (fin) return fin;
-  if (s.cfg.method == RP_METHOD_MIE)
+  if (fin) {
+    rp_table_free(table);
+    return fin;
+  }
+  if (s.cfg.method == RP_METHOD_MIE) {
+    rp_table_free(table);
     return rp_cli_fail("gate", RP_EINVAL, "--method mie is for single drops; use tmatrix or rayleigh");
+  }
   req.cfg = s.cfg;
   req.kw2 = o.kw2;
 
@@ -76,6 +124,7 @@ int rp_cmd_gate(int argc, char **argv) {
   int rc = rp_cli_dsd_build("gate", &o, &dsd);
   if (rc) {
     rp_cli_dsd_release(&dsd);
+    rp_table_free(table);
     return rc;
   }
   rp_gate_run_result res;
@@ -87,5 +136,6 @@ int rp_cmd_gate(int argc, char **argv) {
       rp_gate_run_print(&req, &dsd, &res);
   }
   rp_cli_dsd_release(&dsd);
+  rp_table_free(table);
   return rc;
 }

@@ -70,6 +70,16 @@ int rp_gate_run(const char *cmd, const rp_gate_request *req, const rp_dsd *dsd,
     cfg.freq_ghz = req->freq_ghz[b];
     const double dmin = spectrum ? RP_TABLE_DMIN_DEFAULT_MM : dsd->dmin_mm;
     const double dmax = spectrum ? RP_TABLE_DMAX_DEFAULT_MM : dsd->dmax_mm;
+    if (req->table != NULL) { /* the user's table: a plan for this call only */
+      rp_gate_plan *plan = NULL;
+      if (rp_gate_plan_alloc(req->table, dmin, dmax, req->kw2, &plan, &err) != RP_OK)
+        return rp_cli_fail_err(cmd, &err);
+      const rp_status st = rp_gate_eval(plan, dsd, &out->r[b], &err);
+      rp_gate_plan_free(plan);
+      if (st != RP_OK) return rp_cli_fail_err(cmd, &err);
+      out->origin[b] = RP_TABLE_GIVEN;
+      continue;
+    }
     const kept_plan *k = get_plan(&cfg, dmin, dmax, req->kw2, &err);
     if (k == NULL) return rp_cli_fail_err(cmd, &err);
     if (rp_gate_eval(k->plan, dsd, &out->r[b], &err) != RP_OK) return rp_cli_fail_err(cmd, &err);

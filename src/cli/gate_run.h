@@ -15,6 +15,7 @@ typedef struct {
   double freq_ghz[RP_GATE_MAX_BANDS];
   const char *band[RP_GATE_MAX_BANDS]; /* band letter or NULL */
   double kw2;
+  const rp_table *table; /* a table the user gave (--table): used for its one band */
 } rp_gate_request;
 
 typedef struct {

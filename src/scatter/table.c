@@ -420,6 +420,7 @@ const char *rp_table_origin_name(rp_table_origin o) {
   switch (o) {
     case RP_TABLE_SHIPPED: return "shipped";
     case RP_TABLE_CACHED: return "cache";
+    case RP_TABLE_GIVEN: return "given";
     default: return "computed";
   }
 }

@@ -82,5 +82,17 @@ mkdir -p "$work/presets" && cp "$work/broken.yaml" "$work/presets/"
 RAINPRINT_PRESETS="$work/presets" expect 2 "$rp" presets
 has "broken.yaml" err
 
+# a scattering table named by the user: used when it matches, refused when it does not
+expect 0 "$rp" table --band X --temperature 20 --canting-sd 3 --out "$work/x20.nc"
+expect 0 "$rp" gate --preset gentle-stratiform --table "$work/x20.nc" --json
+/usr/bin/python3 -c 'import json,sys; r=json.load(open(sys.argv[1]))["results"]; assert len(r) == 1 and r[0]["band"] == "X" and r[0]["table"] == "given" and r[0]["temperature_c"] == 20' "$work/out" && ok || bad "given table"
+expect 2 "$rp" gate --preset gentle-stratiform --table "$work/x20.nc" --temperature 10
+has "20 C, not 10 C" err
+expect 2 "$rp" gate --preset gentle-stratiform --table "$work/missing.nc"
+has "missing.nc" err
+echo "not netCDF" > "$work/junk.nc"
+expect 2 "$rp" gate --preset gentle-stratiform --table "$work/junk.nc"
+has "junk.nc" err
+
 echo "$pass passed, $fail failed"
 [[ $fail -eq 0 ]]
