@@ -1,13 +1,15 @@
 /* presets.c — named example rains (DSD presets) from YAML files.
  *
  * Method: three passes over each file.
- * 1. A libyaml event scan checks every scalar under a numeric key (n0, mu, d0_mm, ...)
- *    is a plain finite decimal, and reports YAML syntax errors with libyaml's own
- *    position. libcyaml 1.3.1 would accept "nan", "inf", "0x10" and trailing text
- *    ("1.6mm" -> 1.6) silently, and drops the position of syntax errors.
+ * 1. A libyaml event scan (rp_yaml_scan_numbers, yaml_check.c) checks every scalar
+ *    under a numeric key (n0, mu, d0_mm, ...) is a plain finite decimal, and reports
+ *    YAML syntax errors with libyaml's own position. libcyaml 1.3.1 would accept "nan",
+ *    "inf", "0x10" and trailing text ("1.6mm" -> 1.6) silently, and drops the position
+ *    of syntax errors.
  * 2. libcyaml loads the file against the schema below (floats and the model enum are
- *    CYAML_FLAG_STRICT; unknown keys are errors). Its log goes through collect_log(),
- *    which gathers the messages into the rp_error with "path:line:column:".
+ *    CYAML_FLAG_STRICT; unknown keys are errors). Its log is gathered into the rp_error
+ *    with "path:line:column:" (rp_yaml_log_fn, yaml_check.c). Passes 1 and 2 are
+ *    rp_yaml_load_file().
  * 3. Our validation: name pattern, exactly the parameters the model takes, then the
  *    DSD constructors' own range checks (rp_dsd_*), and the truncation.
  * All three report RP_EPARSE; only a missing/unreadable file gives RP_EIO. */
@@ -17,14 +19,14 @@
 #include <dirent.h>
 #include <errno.h>
 #include <math.h>
-#include <stdarg.h>
 #include <stdbool.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include <cyaml/cyaml.h>
-#include <yaml.h>
+
+#include "yaml_check.h"
 
 /* ---- schema -------------------------------------------------------------------- */
 
@@ -76,166 +78,10 @@ static const cyaml_schema_field_t doc_fields[] = {
 static const cyaml_schema_value_t doc_schema = {
     CYAML_VALUE_MAPPING(CYAML_FLAG_POINTER, preset_doc, doc_fields)};
 
-/* Keys whose values must be plain decimals (pass 1). */
+/* Keys whose values must be plain decimals (pass 1, rp_yaml_scan_numbers). */
 static const char *const numeric_keys[] = {"n0",     "lambda_per_mm", "mu",
                                            "nw_m3_mm", "d0_mm",        "dm_mm",
                                            "rain_rate_mm_h", "dmin_mm", "dmax_mm"};
-
-/* ---- pass 1: libyaml scan ------------------------------------------------------------ */
-
-/* [+-] digits [. digits] [(e|E) [+-] digits] with at least one mantissa digit. */
-static bool is_plain_decimal(const char *s) {
-  const char *p = s;
-  if (*p == '+' || *p == '-') p++;
-  size_t digits = 0;
-  while (isdigit((unsigned char)*p)) p++, digits++;
-  if (*p == '.') {
-    p++;
-    while (isdigit((unsigned char)*p)) p++, digits++;
-  }
-  if (digits == 0) return false;
-  if (*p == 'e' || *p == 'E') {
-    p++;
-    if (*p == '+' || *p == '-') p++;
-    if (!isdigit((unsigned char)*p)) return false;
-    while (isdigit((unsigned char)*p)) p++;
-  }
-  return *p == '\0';
-}
-
-static bool is_numeric_key(const char *key) {
-  for (size_t i = 0; i < sizeof numeric_keys / sizeof numeric_keys[0]; i++)
-    if (strcmp(key, numeric_keys[i]) == 0) return true;
-  return false;
-}
-
-#define SCAN_MAX_DEPTH 16
-typedef struct {
-  bool is_mapping, expect_key;
-  char key[64];
-} scan_level;
-
-/* "parameters.d0_mm" from the keys of the open mappings. */
-static void scan_path(const scan_level *lv, int depth, char *buf, size_t n) {
-  buf[0] = '\0';
-  for (int i = 0; i < depth; i++) {
-    if (!lv[i].is_mapping) continue;
-    size_t len = strlen(buf);
-    snprintf(buf + len, n - len, "%s%s", len ? "." : "", lv[i].key);
-  }
-}
-
-/* After a complete value (scalar, alias or closed collection) in the current level. */
-static void scan_value_done(scan_level *lv, int depth) {
-  if (depth > 0 && depth <= SCAN_MAX_DEPTH && lv[depth - 1].is_mapping)
-    lv[depth - 1].expect_key = true;
-}
-
-static rp_status scan_numbers(const char *path, FILE *f, rp_error *err) {
-  yaml_parser_t parser;
-  if (!yaml_parser_initialize(&parser))
-    return rp_error_set(err, RP_ENOMEM, "%s: cannot initialise the YAML parser", path);
-  yaml_parser_set_input_file(&parser, f);
-  scan_level lv[SCAN_MAX_DEPTH];
-  int depth = 0;
-  rp_status s = RP_OK;
-  for (bool done = false; !done && s == RP_OK;) {
-    yaml_event_t ev;
-    if (!yaml_parser_parse(&parser, &ev)) {
-      s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: YAML syntax: %s%s%s", path,
-                       (size_t)parser.problem_mark.line + 1,
-                       (size_t)parser.problem_mark.column + 1,
-                       parser.problem ? parser.problem : "error",
-                       parser.context ? " " : "", parser.context ? parser.context : "");
-      break;
-    }
-    switch (ev.type) {
-      case YAML_MAPPING_START_EVENT:
-      case YAML_SEQUENCE_START_EVENT:
-        if (depth < SCAN_MAX_DEPTH) {
-          lv[depth].is_mapping = ev.type == YAML_MAPPING_START_EVENT;
-          lv[depth].expect_key = true;
-          lv[depth].key[0] = '\0';
-        }
-        depth++;
-        break;
-      case YAML_MAPPING_END_EVENT:
-      case YAML_SEQUENCE_END_EVENT:
-        depth--;
-        scan_value_done(lv, depth);
-        break;
-      case YAML_SCALAR_EVENT: {
-        const char *text = (const char *)ev.data.scalar.value;
-        scan_level *top = (depth > 0 && depth <= SCAN_MAX_DEPTH) ? &lv[depth - 1] : NULL;
-        if (top && top->is_mapping && top->expect_key) {
-          snprintf(top->key, sizeof top->key, "%s", text);
-          top->expect_key = false;
-          break;
-        }
-        if (top && top->is_mapping && is_numeric_key(top->key)) {
-          char field[256];
-          scan_path(lv, depth, field, sizeof field);
-          size_t line = (size_t)ev.start_mark.line + 1, col = (size_t)ev.start_mark.column + 1;
-          if (!is_plain_decimal(text)) {
-            s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: %s: '%s' is not a plain decimal "
-                             "number", path, line, col, field, text);
-          } else {
-            errno = 0;
-            double v = strtod(text, NULL);
-            if (errno == ERANGE || !isfinite(v))
-              s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: %s: '%s' is out of the range of "
-                               "a double", path, line, col, field, text);
-          }
-        }
-        scan_value_done(lv, depth);
-        break;
-      }
-      case YAML_ALIAS_EVENT:
-        scan_value_done(lv, depth);
-        break;
-      case YAML_STREAM_END_EVENT:
-        done = true;
-        break;
-      default:
-        break;
-    }
-    yaml_event_delete(&ev);
-  }
-  yaml_parser_delete(&parser);
-  return s;
-}
-
-/* ---- pass 2: libcyaml with its log collected --------------------------------------- */
-
-typedef struct {
-  char text[RP_ERROR_MSG_LEN];
-  unsigned line, column;
-  bool have_pos;
-} log_collect;
-
-static void collect_log(cyaml_log_t level, void *ctx, const char *fmt, va_list args) {
-  log_collect *lc = ctx;
-  if (level < CYAML_LOG_ERROR) return;
-  char piece[RP_ERROR_MSG_LEN];
-  vsnprintf(piece, sizeof piece, fmt, args);
-  char *p = piece;
-  while (*p == ' ' || *p == '\t') p++;
-  size_t n = strlen(p);
-  while (n > 0 && (p[n - 1] == '\n' || p[n - 1] == ' ')) p[--n] = '\0';
-  if (strncmp(p, "Load: ", 6) == 0) p += 6;
-  if (*p == '\0' || strcmp(p, "Backtrace:") == 0) return;
-  /* "(line: N, column: M)": keep the first (innermost) position, drop it from the text */
-  char *pos = strstr(p, " (line: ");
-  if (pos) {
-    unsigned l, c;
-    if (sscanf(pos, " (line: %u, column: %u)", &l, &c) == 2 && !lc->have_pos) {
-      lc->line = l, lc->column = c, lc->have_pos = true;
-    }
-    *pos = '\0';
-  }
-  size_t len = strlen(lc->text);
-  snprintf(lc->text + len, sizeof lc->text - len, "%s%s", len ? "; " : "", p);
-}
 
 /* ---- pass 3: validation --------------------------------------------------------------- */
 
@@ -355,33 +201,13 @@ static rp_status build_preset(const char *path, const preset_doc *doc, rp_preset
 rp_status rp_preset_load_file(const char *path, rp_preset *out, rp_error *err) {
   if (path == NULL || out == NULL)
     return rp_error_set(err, RP_EINVAL, "preset load: path or output is NULL");
-  FILE *f = fopen(path, "rb");
-  if (f == NULL) return rp_error_set(err, RP_EIO, "%s: cannot open: %s", path, strerror(errno));
-  rp_status s = scan_numbers(path, f, err);
-  fclose(f);
-  if (s != RP_OK) return s;
-
-  log_collect lc;
-  memset(&lc, 0, sizeof lc);
-  const cyaml_config_t cfg = {.log_fn = collect_log,
-                              .log_ctx = &lc,
-                              .mem_fn = cyaml_mem,
-                              .log_level = CYAML_LOG_ERROR,
-                              .flags = CYAML_CFG_DEFAULT};
   preset_doc *doc = NULL;
-  cyaml_err_t ce = cyaml_load_file(path, &cfg, &doc_schema, (cyaml_data_t **)&doc, NULL);
-  if (ce != CYAML_OK) {
-    if (ce == CYAML_ERR_OOM) return rp_error_set(err, RP_ENOMEM, "%s: out of memory", path);
-    const char *text = lc.text[0] ? lc.text : cyaml_strerror(ce);
-    if (lc.have_pos)
-      return rp_error_set(err, RP_EPARSE, "%s:%u:%u: %s", path, lc.line, lc.column, text);
-    return rp_error_set(err, RP_EPARSE, "%s: %s", path, text);
-  }
-  if (doc == NULL) /* an empty stream loads as nothing, without an error */
-    return rp_error_set(err, RP_EPARSE, "%s: empty file: a preset needs name, description, "
-                        "model, parameters and source", path);
-  s = build_preset(path, doc, out, err);
-  cyaml_free(&cfg, &doc_schema, doc, 0);
+  RP_TRY(rp_yaml_load_file(path, &doc_schema, numeric_keys,
+                           sizeof numeric_keys / sizeof numeric_keys[0],
+                           "a preset needs name, description, model, parameters and source",
+                           (cyaml_data_t **)&doc, err));
+  rp_status s = build_preset(path, doc, out, err);
+  rp_yaml_free(&doc_schema, doc);
   return s;
 }
 

@@ -2,21 +2,21 @@
  *
  * Method: line-oriented parsing with getline(); each line is split on ',' in place,
  * fields are trimmed of blanks, numbers must be complete plain decimals (checked
- * character by character before strtod, so "nan", "inf", "0x10" and "1.2mm" are
- * refused). Every error names the file, the line and the column (with the bin it
+ * character by character before strtod by rp_decimal_parse, decimal.c, so "nan",
+ * "inf", "0x10" and "1.2mm" are refused). Every error names the file, the line and the column (with the bin it
  * belongs to). The format is specified in docs/_parts/format-spectrum.md.
  *
  * Invariants of a loaded set: n_bins >= 1, n_rows >= 1, the bin geometry passes
  * rp_dsd_spectrum()'s checks, every concentration is finite and >= 0. */
 #include "rainprint/spectrum.h"
 
-#include <ctype.h>
 #include <errno.h>
-#include <math.h>
 #include <stdbool.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+
+#include "decimal.h"
 
 static const char KEY_CENTER[] = "bin_center_mm";
 static const char KEY_WIDTH[] = "bin_width_mm";
@@ -66,27 +66,6 @@ static size_t count_fields(const char *line) {
   return n;
 }
 
-/* A plain decimal: [+-] digits [. digits] [(e|E) [+-] digits], at least one digit in
- * the mantissa. */
-static bool is_plain_decimal(const char *s) {
-  const char *p = s;
-  if (*p == '+' || *p == '-') p++;
-  size_t digits = 0;
-  while (isdigit((unsigned char)*p)) p++, digits++;
-  if (*p == '.') {
-    p++;
-    while (isdigit((unsigned char)*p)) p++, digits++;
-  }
-  if (digits == 0) return false;
-  if (*p == 'e' || *p == 'E') {
-    p++;
-    if (*p == '+' || *p == '-') p++;
-    if (!isdigit((unsigned char)*p)) return false;
-    while (isdigit((unsigned char)*p)) p++;
-  }
-  return *p == '\0';
-}
-
 typedef struct {
   const char *path;
   size_t line;
@@ -98,16 +77,17 @@ static rp_status parse_number(const where *w, const char *field, const char *col
   if (field[0] == '\0')
     return rp_error_set(w->err, RP_EPARSE, "%s:%zu: %s: empty field (write 0 for no drops)",
                         w->path, w->line, column);
-  if (!is_plain_decimal(field))
-    return rp_error_set(w->err, RP_EPARSE, "%s:%zu: %s: '%s' is not a number", w->path,
-                        w->line, column, field);
-  errno = 0;
-  double v = strtod(field, NULL);
-  if (errno == ERANGE || !isfinite(v))
-    return rp_error_set(w->err, RP_EPARSE, "%s:%zu: %s: '%s' is out of the range of a "
-                        "double", w->path, w->line, column, field);
-  *x = v;
-  return RP_OK;
+  switch (rp_decimal_parse(field, x)) {
+    case RP_DECIMAL_OK:
+      return RP_OK;
+    case RP_DECIMAL_NOT_PLAIN:
+      return rp_error_set(w->err, RP_EPARSE, "%s:%zu: %s: '%s' is not a number", w->path,
+                          w->line, column, field);
+    case RP_DECIMAL_OUT_OF_RANGE:
+      break;
+  }
+  return rp_error_set(w->err, RP_EPARSE, "%s:%zu: %s: '%s' is out of the range of a double",
+                      w->path, w->line, column, field);
 }
 
 /* Read the next line that is neither blank nor a comment. Returns 1 with *line set,

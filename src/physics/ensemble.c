@@ -18,16 +18,14 @@
  *   models give the same (D0, Nw) for the same seed.
  * Generator: GSL mt19937, seeded once; four deviates per member in member order.
  *
- * YAML loading: a libyaml scan refuses numbers that are not plain decimals (libcyaml
- * 1.3.1 accepts nan, inf, hex and "1.4mm" -> 1.4 silently), libcyaml loads against a
- * schema (floats and the enum CYAML_FLAG_STRICT, unknown keys are errors) with its log
- * collected into the rp_error, then rp_climate_validate checks ranges. */
+ * YAML loading (rp_yaml_load_file, src/io/yaml_check.c): a libyaml scan refuses numbers
+ * that are not plain decimals (libcyaml 1.3.1 accepts nan, inf, hex and "1.4mm" -> 1.4
+ * silently), libcyaml loads against a schema (floats and the enum CYAML_FLAG_STRICT,
+ * unknown keys are errors) with its log collected into the rp_error, then
+ * rp_climate_validate checks ranges. */
 #include "rainprint/ensemble.h"
 
-#include <ctype.h>
-#include <errno.h>
 #include <math.h>
-#include <stdarg.h>
 #include <stdbool.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -36,7 +34,8 @@
 #include <cyaml/cyaml.h>
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_rng.h>
-#include <yaml.h>
+
+#include "io/yaml_check.h"
 
 /* ---- built-in climates ------------------------------------------------------------- */
 
@@ -237,144 +236,11 @@ rp_status rp_ensemble_member_dsd(const rp_ensemble_member *m, rp_dsd *d, rp_erro
   return rp_dsd_normalized_gamma_d0(d, pow(10.0, m->log10_nw), m->d0_mm, m->mu, err);
 }
 
-/* ---- YAML: pass 1, libyaml scan of the numbers ------------------------------------ */
+/* ---- YAML: pass 1, libyaml scan of the numbers (rp_yaml_scan_numbers) --------------- */
 
 static const char *const numeric_keys[] = {"weight",     "log10_nw_mean", "log10_nw_sd",
                                            "d0_mean_mm", "d0_sd_mm",      "corr_log10_nw_d0",
                                            "mu_mean",    "mu_sd"};
-
-/* [+-] digits [. digits] [(e|E) [+-] digits], at least one mantissa digit. */
-static bool is_plain_decimal(const char *s) {
-  const char *p = s;
-  size_t digits = 0;
-  if (*p == '+' || *p == '-') p++;
-  for (; isdigit((unsigned char)*p); p++) digits++;
-  if (*p == '.')
-    for (p++; isdigit((unsigned char)*p); p++) digits++;
-  if (digits == 0) return false;
-  if (*p == 'e' || *p == 'E') {
-    p++;
-    if (*p == '+' || *p == '-') p++;
-    if (!isdigit((unsigned char)*p)) return false;
-    while (isdigit((unsigned char)*p)) p++;
-  }
-  return *p == '\0';
-}
-
-static bool is_numeric_key(const char *key) {
-  for (size_t i = 0; i < sizeof numeric_keys / sizeof numeric_keys[0]; i++)
-    if (strcmp(key, numeric_keys[i]) == 0) return true;
-  return false;
-}
-
-#define SCAN_DEPTH 8
-typedef struct {
-  bool is_mapping, expect_key;
-  size_t index; /* next entry index in a sequence */
-  char key[64];
-} scan_level;
-
-/* Field path such as "clusters[1].d0_sd_mm" from the open levels. */
-static void scan_path(const scan_level *lv, int depth, char *buf, size_t n) {
-  buf[0] = '\0';
-  for (int i = 0; i < depth && i < SCAN_DEPTH; i++) {
-    size_t len = strlen(buf);
-    if (lv[i].is_mapping)
-      snprintf(buf + len, n - len, "%s%s", len ? "." : "", lv[i].key);
-    else if (lv[i].index > 0)
-      snprintf(buf + len, n - len, "[%zu]", lv[i].index - 1);
-  }
-}
-
-/* After a complete value in the level below depth. */
-static void scan_value_done(scan_level *lv, int depth) {
-  if (depth < 1 || depth > SCAN_DEPTH) return;
-  if (lv[depth - 1].is_mapping) lv[depth - 1].expect_key = true;
-}
-
-/* A new value starts in the level below depth (counts sequence entries). */
-static void scan_value_start(scan_level *lv, int depth) {
-  if (depth >= 1 && depth <= SCAN_DEPTH && !lv[depth - 1].is_mapping) lv[depth - 1].index++;
-}
-
-static rp_status scan_numbers(const char *path, FILE *f, rp_error *err) {
-  yaml_parser_t parser;
-  if (!yaml_parser_initialize(&parser))
-    return rp_error_set(err, RP_ENOMEM, "%s: cannot initialise the YAML parser", path);
-  yaml_parser_set_input_file(&parser, f);
-  scan_level lv[SCAN_DEPTH];
-  memset(lv, 0, sizeof lv);
-  int depth = 0;
-  rp_status s = RP_OK;
-  for (bool done = false; !done && s == RP_OK;) {
-    yaml_event_t ev;
-    if (!yaml_parser_parse(&parser, &ev)) {
-      s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: YAML syntax: %s%s%s", path,
-                       (size_t)parser.problem_mark.line + 1,
-                       (size_t)parser.problem_mark.column + 1,
-                       parser.problem ? parser.problem : "error", parser.context ? " " : "",
-                       parser.context ? parser.context : "");
-      break;
-    }
-    switch (ev.type) {
-      case YAML_MAPPING_START_EVENT:
-      case YAML_SEQUENCE_START_EVENT:
-        scan_value_start(lv, depth);
-        if (depth < SCAN_DEPTH) {
-          lv[depth].is_mapping = ev.type == YAML_MAPPING_START_EVENT;
-          lv[depth].expect_key = true;
-          lv[depth].index = 0;
-          lv[depth].key[0] = '\0';
-        }
-        depth++;
-        break;
-      case YAML_MAPPING_END_EVENT:
-      case YAML_SEQUENCE_END_EVENT:
-        depth--;
-        scan_value_done(lv, depth);
-        break;
-      case YAML_SCALAR_EVENT: {
-        const char *text = (const char *)ev.data.scalar.value;
-        scan_level *top = (depth >= 1 && depth <= SCAN_DEPTH) ? &lv[depth - 1] : NULL;
-        if (top && top->is_mapping && top->expect_key) {
-          snprintf(top->key, sizeof top->key, "%s", text);
-          top->expect_key = false;
-          break;
-        }
-        scan_value_start(lv, depth);
-        if (top && top->is_mapping && is_numeric_key(top->key)) {
-          char field[192];
-          scan_path(lv, depth, field, sizeof field);
-          size_t line = (size_t)ev.start_mark.line + 1, col = (size_t)ev.start_mark.column + 1;
-          if (!is_plain_decimal(text)) {
-            s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: %s: '%s' is not a plain decimal "
-                             "number", path, line, col, field, text);
-          } else {
-            errno = 0;
-            double v = strtod(text, NULL);
-            if (errno == ERANGE || !isfinite(v))
-              s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: %s: '%s' is out of the range "
-                               "of a double", path, line, col, field, text);
-          }
-        }
-        scan_value_done(lv, depth);
-        break;
-      }
-      case YAML_ALIAS_EVENT:
-        scan_value_start(lv, depth);
-        scan_value_done(lv, depth);
-        break;
-      case YAML_STREAM_END_EVENT:
-        done = true;
-        break;
-      default:
-        break;
-    }
-    yaml_event_delete(&ev);
-  }
-  yaml_parser_delete(&parser);
-  return s;
-}
 
 /* ---- YAML: pass 2, libcyaml against the schema ------------------------------------ */
 
@@ -425,35 +291,6 @@ static const cyaml_schema_field_t climate_fields[] = {
 
 static const cyaml_schema_value_t climate_schema = {
     CYAML_VALUE_MAPPING(CYAML_FLAG_POINTER, yaml_climate, climate_fields)};
-
-typedef struct {
-  char text[RP_ERROR_MSG_LEN];
-  unsigned line, column;
-  bool have_pos;
-} log_collect;
-
-/* libcyaml's log_fn: gather ERROR lines into one message, keep the first position. */
-static void collect_log(cyaml_log_t level, void *ctx, const char *fmt, va_list args) {
-  log_collect *lc = ctx;
-  if (level < CYAML_LOG_ERROR) return;
-  char piece[RP_ERROR_MSG_LEN];
-  vsnprintf(piece, sizeof piece, fmt, args);
-  char *p = piece;
-  while (*p == ' ' || *p == '\t') p++;
-  size_t n = strlen(p);
-  while (n > 0 && (p[n - 1] == '\n' || p[n - 1] == ' ')) p[--n] = '\0';
-  if (strncmp(p, "Load: ", 6) == 0) p += 6;
-  if (*p == '\0' || strcmp(p, "Backtrace:") == 0) return;
-  char *pos = strstr(p, " (line: ");
-  if (pos) {
-    unsigned l, c;
-    if (sscanf(pos, " (line: %u, column: %u)", &l, &c) == 2 && !lc->have_pos)
-      lc->line = l, lc->column = c, lc->have_pos = true;
-    *pos = '\0';
-  }
-  size_t len = strlen(lc->text);
-  snprintf(lc->text + len, sizeof lc->text - len, "%s%s", len ? "; " : "", p);
-}
 
 /* ---- YAML: pass 3, conversion and validation -------------------------------------- */
 
@@ -506,34 +343,14 @@ static rp_status convert(const char *path, const yaml_climate *y, rp_climate *c,
 rp_status rp_climate_load_yaml(const char *path, rp_climate *c, rp_error *err) {
   if (path == NULL || c == NULL)
     return rp_error_set(err, RP_EINVAL, "climate file: path or output is NULL");
-  FILE *f = fopen(path, "rb");
-  if (f == NULL) return rp_error_set(err, RP_EIO, "%s: cannot open: %s", path, strerror(errno));
-  rp_status s = scan_numbers(path, f, err);
-  fclose(f);
-  if (s != RP_OK) return s;
-
-  log_collect lc;
-  memset(&lc, 0, sizeof lc);
-  const cyaml_config_t cfg = {.log_fn = collect_log,
-                              .log_ctx = &lc,
-                              .mem_fn = cyaml_mem,
-                              .log_level = CYAML_LOG_ERROR,
-                              .flags = CYAML_CFG_DEFAULT};
   yaml_climate *doc = NULL;
-  cyaml_err_t ce = cyaml_load_file(path, &cfg, &climate_schema, (cyaml_data_t **)&doc, NULL);
-  if (ce != CYAML_OK) {
-    if (ce == CYAML_ERR_OOM) return rp_error_set(err, RP_ENOMEM, "%s: out of memory", path);
-    const char *text = lc.text[0] ? lc.text : cyaml_strerror(ce);
-    if (lc.have_pos)
-      return rp_error_set(err, RP_EPARSE, "%s:%u:%u: %s", path, lc.line, lc.column, text);
-    return rp_error_set(err, RP_EPARSE, "%s: %s", path, text);
-  }
-  if (doc == NULL)
-    return rp_error_set(err, RP_EPARSE, "%s: empty file: a climate needs name, source and "
-                        "clusters", path);
+  RP_TRY(rp_yaml_load_file(path, &climate_schema, numeric_keys,
+                           sizeof numeric_keys / sizeof numeric_keys[0],
+                           "a climate needs name, source and clusters", (cyaml_data_t **)&doc,
+                           err));
   rp_climate tmp;
-  s = convert(path, doc, &tmp, err);
-  cyaml_free(&cfg, &climate_schema, doc, 0);
+  rp_status s = convert(path, doc, &tmp, err);
+  rp_yaml_free(&climate_schema, doc);
   if (s == RP_OK) *c = tmp;
   return s;
 }
