@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
-# demo.sh — set up, build and run the demo: a few drops at S, C and X band, and one
-# scattering table. Outputs go to ./demo-out/.
+# demo.sh — set up, build and run the demo: a few drops at S, C and X band, one
+# scattering table, the named rains, one of them at three bands, and a picture of ZDR,
+# KDP and AH against D0. Outputs go to ./demo-out/.
 set -euo pipefail
 here=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 "$here/scripts/setup.sh" "$here/build"
@@ -23,3 +24,23 @@ echo "== Full detail for a 5 mm drop at C band"
 echo
 echo "== A scattering table for X band at 20 C"
 "$rp" table --band X --temperature 20 --out "$out/x_band_20c.nc"
+
+echo
+echo "== The named rains (presets), with their S-band values"
+"$rp" presets
+
+echo
+echo "== One of them, a maritime downpour, at S, C and X band"
+"$rp" gate --preset maritime-downpour --band S,C,X
+
+echo
+echo "== ZDR, KDP and AH against D0 at S, C and X band (gentle stratiform rain, Nw and mu fixed)"
+"$rp" curve --preset gentle-stratiform --vary d0 --from 0.5 --to 3 --steps 26 \
+  --variables zdr,kdp,ah --plot "$out/zdr_kdp_ah_vs_d0.png" --csv "$out/zdr_kdp_ah_vs_d0.csv"
+
+echo
+echo "== Files written"
+printf '  %s\n      %s\n' \
+  "$out/x_band_20c.nc" "scattering table, X band, 20 C (netCDF)" \
+  "$out/zdr_kdp_ah_vs_d0.png" "picture: ZDR, KDP and AH against D0 at S, C and X band" \
+  "$out/zdr_kdp_ah_vs_d0.csv" "the numbers behind it (one row per D0 and band)"

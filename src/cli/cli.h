@@ -142,6 +142,7 @@ int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const c
 int rp_cmd_drop(int argc, char **argv);
 int rp_cmd_table(int argc, char **argv);
 int rp_cmd_gate(int argc, char **argv);
+int rp_cmd_curve(int argc, char **argv);
 int rp_cmd_presets(int argc, char **argv);
 
 #endif

@@ -13,6 +13,7 @@ static const rp_cli_command commands[] = {
     {"table", "build a scattering table (netCDF) for a band, temperature, shape, canting",
      rp_cmd_table},
     {"gate", "radar variables of one DSD at one or more bands, with the DSD's moments", rp_cmd_gate},
+    {"curve", "one DSD or scattering parameter varied over a range: CSV/JSON and a picture", rp_cmd_curve},
     {"presets", "list the named rains with their parameters and S-band values", rp_cmd_presets},
 };
 #define N_COMMANDS (sizeof commands / sizeof commands[0])
