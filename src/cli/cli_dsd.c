@@ -2,7 +2,6 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <strings.h>
 
 #include "cli/cli.h"
 #include "rainprint/presets.h"
@@ -192,7 +191,6 @@ void rp_cli_dsd_release(rp_cli_dsd_built *b) {
 
 int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const char **names,
                        int max) {
-  static const char *const known[] = {"S", "C", "X", "Ku", "Ka"};
   int n = 0;
   const char *p = text;
   while (*p) {
@@ -210,9 +208,7 @@ int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const c
       rp_cli_fail(cmd, RP_EINVAL, "--band: %s", err.msg);
       return -1;
     }
-    names[n] = NULL;
-    for (size_t k = 0; k < sizeof known / sizeof known[0]; k++)
-      if (strcasecmp(tok, known[k]) == 0) names[n] = known[k];
+    names[n] = rp_band_of_frequency(freqs[n]); /* canonical spelling of the letter */
     n++;
     p += len;
     if (*p == ',') p++;
