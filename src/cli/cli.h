@@ -144,5 +144,6 @@ int rp_cmd_table(int argc, char **argv);
 int rp_cmd_gate(int argc, char **argv);
 int rp_cmd_curve(int argc, char **argv);
 int rp_cmd_presets(int argc, char **argv);
+int rp_cmd_relate(int argc, char **argv);
 
 #endif

@@ -15,6 +15,7 @@ static const rp_cli_command commands[] = {
     {"gate", "radar variables of one DSD at one or more bands, with the DSD's moments", rp_cmd_gate},
     {"curve", "one DSD or scattering parameter varied over a range: CSV/JSON and a picture", rp_cmd_curve},
     {"presets", "list the named rains with their parameters and S-band values", rp_cmd_presets},
+    {"relate", "fit rain relations (R(Zh), R(KDP), AH(KDP), ...) for a band from DSDs", rp_cmd_relate},
 };
 #define N_COMMANDS (sizeof commands / sizeof commands[0])
 
