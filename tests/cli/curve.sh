@@ -3,26 +3,7 @@
 # pictures, JSON, outputs written whole or not at all, and bad input.
 # Usage: curve.sh TOOL BUILD_DIR
 set -u
-rp=$1
-src=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
-work="$2/cli_curve_tmp"
-rm -rf "$work" && mkdir -p "$work"
-py=/usr/bin/python3
-pass=0 fail=0
-ok() { pass=$((pass + 1)); }
-bad() { fail=$((fail + 1)); echo "FAIL: $*"; }
-# expect CODE CMD...: exit code and, for failures, exactly one line on stderr
-expect() {
-  local want=$1; shift
-  "$@" >"$work/out" 2>"$work/err"
-  local got=$?
-  if [[ $got -ne $want ]]; then bad "exit $got (want $want): $*"; cat "$work/err"; return; fi
-  if [[ $want -ne 0 && $(wc -l <"$work/err") -ne 1 ]]; then bad "want one-line message: $*"; cat "$work/err"; return; fi
-  ok
-}
-has() { grep -q -- "$1" "$work/$2" && ok || bad "'$1' not in $2: $(cat "$work/$2")"; }
-# check NAME PYTHON_FILE_ARGS... (script on stdin): a Python check counted as one test
-check() { local name=$1; shift; "$py" - "$@" && ok || bad "$name"; }
+source "$(dirname "${BASH_SOURCE[0]}")/../cli_common.sh" curve "$@"
 
 expect 0 "$rp" curve --help
 has "Example" out
@@ -238,5 +219,4 @@ expect 2 "$rp" curve "${base[@]}" --vary d0 --from 1 --to 2 --csv "$work/kept.cs
 [[ ! -e "$work/x.png" ]] && ok || bad "picture written despite bad input"
 ls "$work" | grep -q tmp && bad "temporary file left behind: $(ls "$work")" || ok
 
-echo "$pass passed, $fail failed"
-[[ $fail -eq 0 ]]
+finish

@@ -2,28 +2,13 @@
 # End-to-end runs of `rainprint drop` and `rainprint table`, bad input included.
 # Usage: drop_table.sh TOOL BUILD_DIR
 set -u
-rp=$1
-work="$2/cli_drop_table_tmp"
-rm -rf "$work" && mkdir -p "$work"
-pass=0 fail=0
-ok() { pass=$((pass + 1)); }
-bad() { fail=$((fail + 1)); echo "FAIL: $*"; }
-
-# expect CODE CMD...: exit code and, for failures, exactly one line on stderr
-expect() {
-  local want=$1; shift
-  "$@" >"$work/out" 2>"$work/err"
-  local got=$?
-  if [[ $got -ne $want ]]; then bad "exit $got (want $want): $*"; cat "$work/err"; return; fi
-  if [[ $want -ne 0 && $(wc -l <"$work/err") -ne 1 ]]; then bad "want one-line message: $*"; cat "$work/err"; return; fi
-  ok
-}
+source "$(dirname "${BASH_SOURCE[0]}")/../cli_common.sh" drop_table "$@"
 
 expect 0 "$rp" --version
 expect 0 "$rp" --help
 expect 0 "$rp" drop --help
 expect 0 "$rp" table --help
-grep -q "Example" "$work/out" && ok || bad "table --help has no example"
+has "Example" out
 expect 2 "$rp" frobnicate
 expect 0 "$rp" drop --diameter 3 --band S
 expect 0 "$rp" drop --diameter 3 --band X --json
@@ -76,5 +61,4 @@ ls "$work" | grep -q tmp- && bad "temporary file left behind" || ok
 expect 2 "$rp" table --band S --dstep -1 --out "$work/t.nc"
 [[ ! -e "$work/t.nc" ]] && ok || bad "partial output after bad step"
 
-echo "$pass passed, $fail failed"
-[[ $fail -eq 0 ]]
+finish

@@ -2,22 +2,7 @@
 # End-to-end runs of `rainprint gate` and `rainprint presets`, bad input included.
 # Usage: gate_presets.sh TOOL BUILD_DIR
 set -u
-rp=$1
-src=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
-work="$2/cli_gate_presets_tmp"
-rm -rf "$work" && mkdir -p "$work"
-pass=0 fail=0
-ok() { pass=$((pass + 1)); }
-bad() { fail=$((fail + 1)); echo "FAIL: $*"; }
-expect() {
-  local want=$1; shift
-  "$@" >"$work/out" 2>"$work/err"
-  local got=$?
-  if [[ $got -ne $want ]]; then bad "exit $got (want $want): $*"; cat "$work/err"; return; fi
-  if [[ $want -ne 0 && $(wc -l <"$work/err") -ne 1 ]]; then bad "want one-line message: $*"; cat "$work/err"; return; fi
-  ok
-}
-has() { grep -q -- "$1" "$work/$2" && ok || bad "'$1' not in $2: $(cat "$work/$2")"; }
+source "$(dirname "${BASH_SOURCE[0]}")/../cli_common.sh" gate_presets "$@"
 
 expect 0 "$rp" gate --help
 has "Example" out
@@ -94,5 +79,4 @@ echo "not netCDF" > "$work/junk.nc"
 expect 2 "$rp" gate --preset gentle-stratiform --table "$work/junk.nc"
 has "junk.nc" err
 
-echo "$pass passed, $fail failed"
-[[ $fail -eq 0 ]]
+finish

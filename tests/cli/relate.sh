@@ -2,27 +2,9 @@
 # End-to-end runs of `rainprint relate`, bad input included.
 # Usage: relate.sh TOOL BUILD_DIR
 set -u
-rp=$1
-src=$(cd "$(dirname "$0")/../.." && pwd)
+source "$(dirname "${BASH_SOURCE[0]}")/../cli_common.sh" relate "$@"
 data="$src/tests/data/relate"
-work="$2/cli_relate_tmp"
-rm -rf "$work" && mkdir -p "$work"
 export RAINPRINT_CACHE="$work/cache"
-py=/usr/bin/python3
-pass=0 fail=0
-ok() { pass=$((pass + 1)); }
-bad() { fail=$((fail + 1)); echo "FAIL: $*"; }
-
-# expect CODE CMD...: exit code and, for failures, exactly one line on stderr
-expect() {
-  local want=$1; shift
-  "$@" >"$work/out" 2>"$work/err"
-  local got=$?
-  if [[ $got -ne $want ]]; then bad "exit $got (want $want): $*"; cat "$work/err"; return; fi
-  if [[ $want -ne 0 && $(wc -l <"$work/err") -ne 1 ]]; then bad "want one-line message: $*"; cat "$work/err"; return; fi
-  ok
-}
-has() { grep -q -- "$1" "$2" && ok || bad "'$1' not in $2: $(head -c 300 "$2")"; }
 
 # help, default text output with the caution
 expect 0 "$rp" relate --help
@@ -151,5 +133,4 @@ expect 2 "$rp" relate --ensemble 300 --plot "$work/no-such-dir/m.png"
 [[ ! -e "$work/no-such-dir" ]] && ok || bad "partial output"
 ls "$work" | grep -q "\.tmp" && bad "temporary file left behind" || ok
 
-echo "$pass passed, $fail failed"
-[[ $fail -eq 0 ]]
+finish
