@@ -71,6 +71,10 @@ void rp_cli_scatter_init(rp_cli_scatter *s);
 /* Handle one getopt code. Returns 1 if handled, 0 if not one of ours,
  * -RP_EXIT_USAGE on a bad value (message printed). */
 int rp_cli_scatter_option(const char *cmd, rp_cli_scatter *s, int code, const char *arg);
+/* The band letter for JSON output: the canonical letter of the band given (or of the
+ * default band), NULL (JSON null) for an explicit --frequency, even one at a band centre. */
+const char *rp_cli_scatter_band(const rp_cli_scatter *s);
+
 /* After parsing: resolves band/frequency, checks the config. 0 or an exit code. */
 int rp_cli_scatter_finish(const char *cmd, rp_cli_scatter *s);
 

@@ -122,6 +122,10 @@ int rp_cli_scatter_option(const char *cmd, rp_cli_scatter *s, int code, const ch
   }
 }
 
+const char *rp_cli_scatter_band(const rp_cli_scatter *s) {
+  return s->have_frequency ? NULL : rp_band_of_frequency(s->cfg.freq_ghz);
+}
+
 int rp_cli_scatter_finish(const char *cmd, rp_cli_scatter *s) {
   if (s->band != NULL && s->have_frequency)
     return rp_cli_fail(cmd, RP_EINVAL, "give either --band or --frequency, not both");

@@ -57,7 +57,7 @@ static void print_text(const rp_cli_scatter *s, const rp_drop_result *r) {
 
 static int print_json(const rp_cli_scatter *s, const rp_drop_result *r) {
   const rp_drop_config *c = &s->cfg;
-  const char *band = rp_band_of_frequency(c->freq_ghz);
+  const char *band = rp_cli_scatter_band(s);
   json_t *o = json_object();
   json_object_set_new(o, "diameter_mm", rp_json_real(r->d_mm));
   json_object_set_new(o, "band", band ? json_string(band) : json_null());

@@ -101,7 +101,7 @@ int rp_cmd_gate(int argc, char **argv) {
   } else if (s.have_frequency) {
     req.n_bands = 1;
     req.freq_ghz[0] = s.cfg.freq_ghz;
-    req.band[0] = rp_band_of_frequency(s.cfg.freq_ghz);
+    req.band[0] = NULL; /* an explicit frequency has no band letter (JSON null) */
   } else {
     req.n_bands = rp_cli_parse_bands("gate", band_list ? band_list : "S,C,X", req.freq_ghz,
                                      req.band, RP_GATE_MAX_BANDS);

@@ -482,7 +482,7 @@ static json_t *fit_json(const rp_relate_fit *f, const rp_relate_options *o) {
 
 static json_t *build_json(const relate_args *a, const relate_state *st) {
   const rp_drop_config *c = &a->s.cfg;
-  const char *b = rp_band_of_frequency(c->freq_ghz);
+  const char *b = rp_cli_scatter_band(&a->s);
   json_t *o = json_object();
   json_object_set_new(o, "band", b ? json_string(b) : json_null());
   json_object_set_new(o, "frequency_ghz", rp_json_real(c->freq_ghz));

@@ -76,7 +76,7 @@ int rp_cmd_table(int argc, char **argv) {
   rp_table_free(t);
   if (st != RP_OK) return rp_cli_fail_err("table", &err);
   if (s.json) {
-    const char *band = rp_band_of_frequency(s.cfg.freq_ghz);
+    const char *band = rp_cli_scatter_band(&s);
     return rp_json_print(json_pack("{s:s, s:o, s:f, s:f, s:i, s:f, s:f}", "out", out, "band",
                                    band ? json_string(band) : json_null(), "frequency_ghz",
                                    s.cfg.freq_ghz, "temperature_c", s.cfg.temp_c, "diameters",

@@ -31,6 +31,7 @@ expect 0 "$rp" drop --diameter 2 --shape sphere --method mie --frequency 5.6 --j
 import json, sys
 r = json.load(open(sys.argv[1]))
 assert r["axis_ratio"] == 1.0 and r["back_hh_mm"] == r["back_vv_mm"] and r["sigma_hv_mm2"] == 0.0
+assert r["band"] is None  # an explicit frequency has no band letter, even at a band centre
 PY
 
 # bad input: exit 2, one line naming the problem
