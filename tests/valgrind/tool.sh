@@ -25,5 +25,8 @@ run 0 gate --preset maritime-downpour
 run 0 gate --dsd marshall-palmer --rain-rate 20 --band X --canting-sd 3 --json
 run 2 gate --dsd gamma --n0 8000 --mu 2
 run 0 presets
+run 0 curve --preset gentle-stratiform --vary d0 --from 0.5 --to 2 --steps 4 --band S --plot "$work/c.png"
+run 0 relate --band C --ensemble 300 --relations "R(KDP),AH(KDP)" --plot "$work/r.png" --csv "$work/r.csv"
+run 2 relate --relations "R(XYZ)"
 echo "$pass passed, $fail failed"
 [[ $fail -eq 0 ]]
