@@ -96,7 +96,7 @@ const char *rp_cli_cache_dir(void);
 enum {
   RP_OPT_PRESET = 1100, RP_OPT_DSD, RP_OPT_N0, RP_OPT_LAMBDA, RP_OPT_MU, RP_OPT_NW, RP_OPT_D0,
   RP_OPT_DM, RP_OPT_RAIN_RATE, RP_OPT_SPECTRUM, RP_OPT_ROW, RP_OPT_DMIN, RP_OPT_DMAX,
-  RP_OPT_KW2
+  RP_OPT_KW2, RP_OPT_HEIGHT
 };
 #define RP_CLI_DSD_LONGOPTS                                                \
   {"preset", required_argument, NULL, RP_OPT_PRESET},                      \
@@ -112,13 +112,15 @@ enum {
   {"row", required_argument, NULL, RP_OPT_ROW},                            \
   {"dmin", required_argument, NULL, RP_OPT_DMIN},                          \
   {"dmax", required_argument, NULL, RP_OPT_DMAX},                          \
-  {"kw2", required_argument, NULL, RP_OPT_KW2}
+  {"kw2", required_argument, NULL, RP_OPT_KW2},                            \
+  {"height", required_argument, NULL, RP_OPT_HEIGHT}
 
 extern const char rp_cli_dsd_help[];
 
 typedef struct {
   const char *preset, *model, *spectrum;
   double n0, lambda, mu, nw, d0, dm, rain_rate, dmin, dmax, kw2;
+  double height_km;      /* NaN: fall speeds as the formula gives them */
   unsigned given;   /* bit per RP_OPT_N0..RP_OPT_RAIN_RATE */
   long row;         /* 1-based spectrum row */
 } rp_cli_dsd;

@@ -43,13 +43,16 @@ const char rp_cli_dsd_help[] =
     "  --d0 MM, --dm MM       median-volume / mass-weighted mean diameter\n"
     "  --rain-rate MM_H       rain rate for marshall-palmer\n"
     "  --dmin MM, --dmax MM   truncation of analytic DSDs (default 0.1 and 8)\n"
-    "  --kw2 X                |K_w|^2 used to form Z (default 0.93)\n";
+    "  --kw2 X                |K_w|^2 used to form Z (default 0.93)\n"
+    "  --height KM            correct fall speeds (rain rate) to the air density of the\n"
+    "                         standard atmosphere at this height (default: none)\n";
 
 void rp_cli_dsd_init(rp_cli_dsd *o) {
   memset(o, 0, sizeof *o);
   o->dmin = RP_DSD_DMIN_DEFAULT_MM;
   o->dmax = RP_DSD_DMAX_DEFAULT_MM;
   o->kw2 = 0.93;
+  o->height_km = NAN;
   o->row = 1;
 }
 
@@ -78,6 +81,18 @@ int rp_cli_dsd_option(const char *cmd, rp_cli_dsd *o, int code, const char *arg)
         return -RP_EXIT_USAGE;
       }
       return 1;
+    case RP_OPT_HEIGHT: {
+      double h;
+      if (rp_cli_parse_double(cmd, "height", arg, &h)) return -RP_EXIT_USAGE;
+      rp_error err = {0};
+      double f;
+      if (rp_fallspeed_density_factor(h, &f, &err) != RP_OK) {
+        rp_cli_fail(cmd, err.status, "--height: %s", err.msg);
+        return -RP_EXIT_USAGE;
+      }
+      o->height_km = h;
+      return 1;
+    }
     case RP_OPT_N0: slot = &o->n0; break;
     case RP_OPT_LAMBDA: slot = &o->lambda; break;
     case RP_OPT_MU: slot = &o->mu; break;

@@ -747,6 +747,8 @@ int rp_cmd_curve(int argc, char **argv) {
     return rp_cli_fail(CMD, RP_EINVAL, "--method mie is for single drops; use tmatrix or rayleigh");
   req.cfg = s.cfg;
   req.kw2 = o.kw2;
+  req.correct_fall_speed = !isnan(o.height_km);
+  req.height_km = o.height_km;
 
   stand_in(&c, &o);
   rp_cli_dsd_built base;

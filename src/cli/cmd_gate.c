@@ -119,6 +119,8 @@ int rp_cmd_gate(int argc, char **argv) {
   }
   req.cfg = s.cfg;
   req.kw2 = o.kw2;
+  req.correct_fall_speed = !isnan(o.height_km);
+  req.height_km = o.height_km;
 
   rp_cli_dsd_built dsd;
   int rc = rp_cli_dsd_build("gate", &o, &dsd);

@@ -61,7 +61,11 @@ int rp_gate_run(const char *cmd, const rp_gate_request *req, const rp_dsd *dsd,
                 rp_gate_run_result *out) {
   rp_error err = {0};
   memset(out, 0, sizeof *out);
-  if (rp_dsd_moments_eval(dsd, RP_FALL_DEFAULT, 1.0, &out->moments, &err) != RP_OK)
+  double factor = 1.0; /* fall speeds as the formula gives them (1013 hPa, 20 C air) */
+  if (req->correct_fall_speed &&
+      rp_fallspeed_density_factor(req->height_km, &factor, &err) != RP_OK)
+    return rp_cli_fail_err(cmd, &err);
+  if (rp_dsd_moments_eval(dsd, RP_FALL_DEFAULT, factor, &out->moments, &err) != RP_OK)
     return rp_cli_fail_err(cmd, &err);
   /* Spectra are integrated over the whole table; analytic DSDs over their truncation. */
   const int spectrum = dsd->model == RP_DSD_SPECTRUM;
@@ -124,6 +128,9 @@ static void print_dsd(const rp_cli_dsd_built *dsd, const rp_dsd_moments *m) {
 void rp_gate_run_print(const rp_gate_request *req, const rp_cli_dsd_built *dsd,
                        const rp_gate_run_result *res) {
   print_dsd(dsd, &res->moments);
+  if (req->correct_fall_speed)
+    printf("  (rain rate with fall speeds corrected to the standard-atmosphere air at %.2f km)\n",
+           req->height_km);
   const rp_drop_config *c = &req->cfg;
   printf("Scattering: %.1f C, shape %s, %s canting SD %.1f deg, elevation %.1f deg, %s, |Kw|^2 %.3f\n",
          c->temp_c, c->axis_ratio_fixed > 0.0 ? "fixed axis ratio" : rp_shape_name(c->shape),

@@ -16,6 +16,8 @@ typedef struct {
   const char *band[RP_GATE_MAX_BANDS]; /* band letter or NULL */
   double kw2;
   const rp_table *table; /* a table the user gave (--table): used for its one band */
+  int correct_fall_speed; /* non-zero: fall speeds corrected to the air at height_km */
+  double height_km;
 } rp_gate_request;
 
 typedef struct {

@@ -40,6 +40,21 @@ has "row 2" out
 expect 0 "$rp" gate --dsd exponential --n0 8000 --lambda 2 --shape sphere --canting-sd 0 --band S --json
 /usr/bin/python3 -c 'import json,sys; r=json.load(open(sys.argv[1]))["results"][0]; assert abs(r["zdr_db"]) < 1e-6 and r["ldr_db"] == -99.0 and abs(r["rhohv"]-1) < 1e-9' "$work/out" && ok || bad "spheres"
 
+# --height: fall speeds corrected to the air at 3 km: (rho_ref/rho(3 km))^0.4 with
+# rho_ref = 1.2041 kg m^-3 (20 C) and rho(3 km) = 0.9093 kg m^-3 (U.S. Standard Atmosphere
+# 1976, from memory; Foote & du Toit 1969 exponent 0.4) = 1.119 -> R grows by that factor
+expect 0 "$rp" gate --preset gentle-stratiform --band S --json
+cp "$work/out" "$work/h0.json"
+expect 0 "$rp" gate --preset gentle-stratiform --band S --height 3 --json
+check "rain rate corrected for height" "$work/h0.json" "$work/out" <<'PY'
+import json, sys
+r0 = json.load(open(sys.argv[1]))["dsd"]["rain_rate_mm_h"]
+r3 = json.load(open(sys.argv[2]))["dsd"]["rain_rate_mm_h"]
+assert 1.11 < r3 / r0 < 1.13, r3 / r0
+PY
+expect 2 "$rp" gate --preset gentle-stratiform --height 99
+has "height" err
+
 # bad input: exit 2 with one line naming the problem
 expect 2 "$rp" gate
 expect 2 "$rp" gate --preset no-such-rain
