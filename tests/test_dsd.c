@@ -56,8 +56,9 @@ static void test_dsd_untruncated_moments_equal_gamma_closed_form(void **state) {
       double n = orders[k], m = 0.0, a = cases[c][1] + n + 1.0;
       assert_int_equal(rp_dsd_moment(&d, n, &m, NULL), RP_OK);
       double expect = cases[c][0] * gsl_sf_gamma(a) / pow(cases[c][2], a);
-      /* 1e-10 as the brief asks; the two evaluations (logs vs direct) differ by a few
-       * ulps times the size of the exponent, ~1e-14 */
+      /* 1e-10: the two evaluations (logs vs direct) differ by a few ulps times the
+       * size of the exponent, ~1e-14, so this leaves a wide margin and still catches
+       * any wrong factor or order */
       assert_close(m, expect, 1e-10, 0.0);
     }
   }
@@ -124,7 +125,7 @@ static void test_dsd_normalized_dm_gives_requested_nw_and_dm(void **state) {
     untruncate(&d);
     rp_dsd_moments m;
     assert_int_equal(rp_dsd_moments_eval(&d, RP_FALL_ATLAS, 1.0, &m, NULL), RP_OK);
-    assert_close(m.dm_mm, dm, 1e-10, 0.0); /* 1e-10 as the brief asks */
+    assert_close(m.dm_mm, dm, 1e-10, 0.0); /* closed forms: rounding ~1e-14, 1e-10 margin */
     assert_close(m.nw_m3_mm, nw, 1e-10, 0.0);
     /* sigma_m/Dm = 1/sqrt(4 + mu) for a gamma DSD (derived: var of D^3 N is
      * (mu+4)/Lambda^2, Dm = (mu+4)/Lambda); cancellation in M5/M3 - Dm^2 costs
@@ -138,7 +139,7 @@ static void test_dsd_normalized_d0_nw_is_the_d0_definition(void **state) {
   /* In the D0 form (Bringi et al. 2003, c = 3.67) the given Nw satisfies
    * W = pi rho_w Nw D0^4 / 3.67^4 exactly (derived: M3 = Nw (6/3.67^4) D0^4), and the
    * Testud Nw reported by moments_eval differs from it by the factor
-   * [4 (3.67 + mu) / (3.67 (4 + mu))]^4 (derived in docs/_parts/method-dsd.md). */
+   * [4 (3.67 + mu) / (3.67 (4 + mu))]^4 (derived in docs/method.md §7). */
   const double mus[] = {-0.5, 0.0, 3.0, 10.0};
   for (size_t i = 0; i < sizeof mus / sizeof mus[0]; i++) {
     const double nw = 8000.0, d0 = 1.4, mu = mus[i];
@@ -232,7 +233,7 @@ static void test_dsd_marshall_palmer_truncation_loss_of_z(void **state) {
   /* Truncating MP to [0.1, 8] mm keeps the fraction P(7, 8 Lambda) - P(7, 0.1 Lambda)
    * of Z; with the Poisson sum (A&S 6.5.13, from memory) as the independent oracle.
    * The loss is 1.2e-6 dB at 1 mm/h, 0.0009 dB at 10, 0.048 dB at 50 and 0.155 dB at
-   * 100 mm/h: the 8 mm cut matters only for heavy rain (stated in method-dsd.md). */
+   * 100 mm/h: the 8 mm cut matters only for heavy rain (stated in docs/method.md §7). */
   const double rates[] = {1.0, 10.0, 50.0, 100.0};
   const double loss_db[] = {1.2254e-6, 9.4297e-4, 4.7841e-2, 0.155448};
   for (size_t i = 0; i < 4; i++) {
@@ -345,7 +346,7 @@ static void test_dsd_sampled_spectrum_within_midpoint_bound(void **state) {
   /* A gamma DSD sampled at bin centres of 0.1 mm bins over [0.1, 8] mm. For each bin,
    * the midpoint-rule error is ∫ K f'' with the Peano kernel 0 <= K <= h^2/8, so
    * |sum - integral| <= (h^2/8) ∫ |f''| = (h^2/8) TV(f') with f = D^n N(D)
-   * (derived in method-dsd.md). The bound is rigorous; 1e-12 relative slack for
+   * (derived in docs/method.md §7). The bound is rigorous; 1e-12 relative slack for
    * round-off. For the ratio Dm = M4/M3, |dDm/Dm| <= (e4 + e3)/(1 - e3). */
   const double n0 = 2.0e4, mu = 2.0, lam = 4.0, h = 0.1;
   rp_dsd g;

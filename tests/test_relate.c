@@ -8,6 +8,7 @@
  * Pruppacher-Beard shapes and no canting for the comparison with Sachidananda & Zrnic. */
 #include "rp_test.h"
 
+#include <dirent.h>
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
@@ -370,7 +371,7 @@ static void test_relate_r_zh_inversion_and_direct_fit_identity(void **state) {
 static void test_relate_s_band_r_kdp_near_sachidananda_zrnic(void **state) {
   (void)state;
   /* Sachidananda & Zrnic (1987, J. Atmos. Oceanic Technol. 4, 588-598): R = 40.5 KDP^0.85
-   * at S band (coefficients as given in the brief; paper details from memory:
+   * at S band (coefficients and paper details from memory:
    * equilibrium shapes of Pruppacher & Beard, no canting, gamma DSDs). We use their shape
    * assumptions (Pruppacher-Beard, canting 0) with our default ensemble (mixed, 5000,
    * seed 1), 10 C, T-matrix. Tolerances: a within +-25 %, b within +-0.15, and R from
@@ -643,7 +644,15 @@ static void test_relate_csv_whole_or_nothing(void **state) {
   snprintf(path, sizeof path, "%s/samples.csv", dir);
   unlink(path);
   rp_error e = {0};
-  assert_int_equal(rp_relate_samples_save_csv(path, s, n, NULL, &e), RP_OK);
+  /* The file gets the permissions of any new file under the umask (0666 & ~022 = 0644),
+   * not the 0600 of a mkstemp() temporary renamed into place. */
+  const mode_t old_mask = umask(022);
+  const rp_status saved = rp_relate_samples_save_csv(path, s, n, NULL, &e);
+  umask(old_mask);
+  assert_int_equal(saved, RP_OK);
+  struct stat st;
+  assert_int_equal(stat(path, &st), 0);
+  assert_int_equal(st.st_mode & 0777, 0644);
   FILE *f = fopen(path, "r");
   assert_non_null(f);
   size_t lines = 0;
@@ -661,6 +670,19 @@ static void test_relate_csv_whole_or_nothing(void **state) {
   snprintf(path, sizeof path, "%s/no-such-dir/samples.csv", dir);
   assert_int_equal(rp_relate_samples_save_csv(path, s, n, NULL, &e), RP_EIO);
   assert_int_equal(rp_relate_samples_save_csv(NULL, s, n, NULL, &e), RP_EINVAL);
+  /* a path with no room for the temporary name beside it */
+  static char long_path[5000];
+  memset(long_path, 'a', sizeof long_path - 1);
+  assert_int_equal(rp_relate_samples_save_csv(long_path, s, n, NULL, &e), RP_EINVAL);
+  assert_non_null(strstr(e.msg, "too long"));
+  /* after the refused and failed writes only samples.csv is in the folder */
+  DIR *dp = opendir(dir);
+  assert_non_null(dp);
+  size_t entries = 0;
+  for (struct dirent *de = readdir(dp); de != NULL; de = readdir(dp))
+    if (strcmp(de->d_name, ".") != 0 && strcmp(de->d_name, "..") != 0) entries++;
+  closedir(dp);
+  assert_int_equal(entries, 1);
   free(s);
 }
 

@@ -4,7 +4,7 @@
  * Units: drop diameter D in mm, N(D) in m^-3 mm^-1, moments M_n = ∫ D^n N(D) dD in
  * mm^n m^-3, liquid water content in g m^-3, rain rate in mm h^-1, Z in mm^6 m^-3.
  *
- * Models (formulas and references in docs/_parts/method-dsd.md):
+ * Models (formulas and references in docs/method.md §7):
  *   exponential        N(D) = N0 exp(-Lambda D)
  *   Marshall–Palmer    N0 = 8000 m^-3 mm^-1, Lambda = 4.1 R^-0.21 mm^-1 (Marshall & Palmer 1948)
  *   gamma              N(D) = N0 D^mu exp(-Lambda D)                    (Ulbrich 1983)
@@ -39,6 +39,10 @@
 /* Accepted shape parameter range of the gamma family. */
 #define RP_DSD_MU_MIN (-2.0)
 #define RP_DSD_MU_MAX 15.0
+/* Slack for spectrum bin edges written in decimals (mm): a lower edge down to -this
+ * counts as 0, and neighbours may overlap by this much (used by rp_dsd_spectrum, the
+ * spectrum CSV reader and the gate integrator alike). */
+#define RP_DSD_BIN_SLACK_MM 1e-9
 /* Constants c of the two normalised-gamma forms. */
 #define RP_DSD_C_D0 3.67
 #define RP_DSD_C_DM 4.0

@@ -17,7 +17,7 @@
  * (RP_MU_ZHANG2001). Every member consumes exactly four uniform deviates of GSL's
  * mt19937 generator seeded with the given seed, in member order, so the same seed
  * gives bit-identical ensembles and member i does not depend on n.
- * Parameters, sources and the reasoning behind each number: docs/_parts/method-relate.md.
+ * Parameters, sources and the reasoning behind each number: docs/method.md §9.
  *
  * Built-in climates (names are ours): "maritime", "continental", "mixed" (default).
  * Climates can also be read from YAML (format in rp_climate_load_yaml below; examples in

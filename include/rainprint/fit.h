@@ -2,7 +2,7 @@
  * R(Z, ZDR), A(KDP), ...) fitted on plain arrays, with 95 % confidence intervals, and
  * the skill of a relation on held-out data.
  *
- * Fits (equations in docs/_parts/method-relate.md):
+ * Fits (equations in docs/method.md §9):
  *   one predictor   y = a x^b          least squares of ln y = ln a + b ln x
  *                                      (GSL gsl_fit_linear)
  *   two predictors  y = a x1^b x2^c    least squares of ln y = ln a + b ln x1 + c ln x2

@@ -117,8 +117,9 @@ int rp_gate_plan_uses_shape(const rp_gate_plan *p);
  * truncation must equal the plan's (within 1e-9 mm). No allocation.
  * Spectra: sum over the bins included by d (centre in [dmin, dmax]) with a non-zero
  * concentration of N_i ∫ q(D) dD over [c - w/2, c + w/2], the integral of the spline
- * interpolant (exact Gauss–Legendre on each spline piece), i.e. N_i w_i times the
- * bin-averaged q. Such bins must lie within the table's diameter range.
+ * interpolant (Gauss–Legendre on each spline piece), i.e. N_i w_i times the
+ * bin-averaged q. Such bins must not reach above the table's largest diameter; a part
+ * below its smallest (down to 0 mm) is integrated with the Rayleigh scaling q ~ D^p.
  * Statuses: RP_EINVAL for NULL pointers, a malformed d (non-finite or non-positive N0
  * or Lambda, non-finite mu, unknown model, spectrum without bins) or a truncation that
  * differs from the plan's; RP_EDOM for a spectrum bin outside the table range or a

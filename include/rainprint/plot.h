@@ -1,7 +1,7 @@
 /* plot.h — pictures: multi-panel line/scatter figures and polar (PPI) fields, written
  * as PNG, SVG or PDF through PLplot's cairo drivers.
  *
- * Colours are rainprint's own choice (docs/_parts/method-plot.md):
+ * Colours are rainprint's own choice (docs/method.md §11):
  *   - series: the Okabe–Ito colour-blind-safe palette (Okabe & Ito 2008), each series
  *     also gets its own marker shape so that colour is never the only cue;
  *   - sequential fields: viridis (van der Walt & Smith 2015), perceptually uniform,

@@ -3,7 +3,7 @@
  * file), then power-law fits between them with 95 % confidence intervals and skill on
  * held-out samples.
  *
- * Pipeline (equations and references in docs/_parts/method-relate-glue.md):
+ * Pipeline (equations and references in docs/method.md §10):
  *   1. samples: for every DSD, R (mm/h), Zh (mm^6 m^-3 and dBZ), ZDR (dB), KDP (deg/km),
  *      AH, ADP (dB/km, one way), Dm, D0 (mm), Nw (m^-3 mm^-1), LWC (g m^-3), Nt (m^-3).
  *      Radar variables from the gate integrator (gate.h) — the fast path for ensemble
@@ -56,7 +56,7 @@
 /* Fewest held-out samples a relation's skill is computed from (RP_EINVAL below). */
 #define RP_RELATE_MIN_HELD 3
 
-/* Default thresholds (documented with their reasons in method-relate-glue.md). */
+/* Default thresholds (documented with their reasons in docs/method.md §10). */
 #define RP_RELATE_ZH_MIN_DBZ_DEFAULT 10.0    /* R(Zh), Zh(R), R(Zh,ZDR), AH(Zh) */
 #define RP_RELATE_KDP_MIN_DEFAULT 0.1        /* deg/km: R(KDP), R(KDP,ZDR), AH(KDP), ADP(KDP) */
 #define RP_RELATE_ZDR_MIN_DB_DEFAULT 0.2     /* dB: Dm(ZDR), R(Zh,ZDR), R(KDP,ZDR) */
@@ -218,8 +218,10 @@ rp_status rp_relate_fit_eval(const rp_relate_sample *s, size_t n, const rp_relat
  * label: labels[index] when labels != NULL (spectra row labels, borrowed; commas are not
  * allowed in them), else empty; held_out 1/0; path "fast" or "direct". Numbers with 10
  * significant digits; NaN written as an empty field.
- * Returns RP_OK; RP_EINVAL (NULL path or s with n > 0, a label with a comma or newline);
- * RP_EIO (cannot create, write or rename; nothing is left behind). */
+ * The file gets the permissions of any new file under the umask.
+ * Returns RP_OK; RP_EINVAL (NULL path or s with n > 0, a label with a comma or newline,
+ * a path too long for the temporary name); RP_EIO (cannot create, write or rename;
+ * nothing is left behind). */
 rp_status rp_relate_samples_save_csv(const char *path, const rp_relate_sample *s, size_t n,
                                      const char *const *labels, rp_error *err);
 

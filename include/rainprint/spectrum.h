@@ -1,6 +1,6 @@
 /* spectrum.h — measured drop-size spectra read from rainprint's CSV format.
  *
- * The format (full description with an example in docs/_parts/format-spectrum.md):
+ * The format (full description with an example in docs/guide.md §6):
  *   # comment lines start with '#'; blank lines are ignored
  *   bin_center_mm,0.0625,0.1875,...     bin centres (mm), declared once
  *   bin_width_mm,0.125,0.125,...        bin widths (mm), declared once

@@ -1,11 +1,12 @@
 /* plot.c — pictures through PLplot's cairo drivers: multi-panel line/scatter figures
  * and polar (PPI) fields, as PNG, SVG or PDF.
  *
- * Method (docs/_parts/method-plot.md):
+ * Method (docs/method.md §11):
  *   - One figure = one fresh PLplot stream (plmkstrm, plinit ... plend1), one page,
- *     drawn to a temporary file created by us (O_EXCL) in the destination folder, then
- *     renamed: the output appears whole or not at all. Creating the file ourselves also
- *     keeps PLplot from its fatal "cannot open file" path, which exits the process.
+ *     drawn to a temporary file created by us (O_EXCL, tempfile.c) in the destination
+ *     folder, then renamed: the output appears whole or not at all. Creating the file
+ *     ourselves also keeps PLplot from its fatal "cannot open file" path, which exits
+ *     the process.
  *   - Panels are laid out with plsvpa viewports in page millimetres after one pladv(0),
  *     never with plssub (plcolorbar is misplaced in plssub subpages in PLplot 5.15,
  *     /work/shared/deps.md §PLplot). Margins are counted in character heights, and the
@@ -32,7 +33,6 @@
 #include "rainprint/plot.h"
 
 #include <errno.h>
-#include <fcntl.h>
 #include <limits.h>
 #include <math.h>
 #include <plplot.h>
@@ -43,6 +43,8 @@
 #include <strings.h>
 #include <sys/stat.h>
 #include <unistd.h>
+
+#include "tempfile.h"
 
 #define CMAP_N 256
 #define PATH_BUF 4096
@@ -180,24 +182,6 @@ static rp_status check_size(int width_px, int height_px, rp_error *err) {
   return RP_OK;
 }
 
-/* Create an empty temporary file next to path (exclusive create, so it is ours). */
-static rp_status temp_create(const char *path, char *tmp, size_t n, rp_error *err) {
-  for (int attempt = 0; attempt < 100; attempt++) {
-    int len = snprintf(tmp, n, "%s.tmp%ld-%d", path, (long)getpid(), attempt);
-    if (len < 0 || (size_t)len >= n)
-      return rp_error_set(err, RP_EINVAL, "picture path '%s' is too long", path);
-    int fd = open(tmp, O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
-    if (fd >= 0) {
-      close(fd);
-      return RP_OK;
-    }
-    if (errno != EEXIST)
-      return rp_error_set(err, RP_EIO, "picture '%s': cannot create temporary file '%s': %s",
-                          path, tmp, strerror(errno));
-  }
-  return rp_error_set(err, RP_EIO, "picture '%s': no free temporary file name", path);
-}
-
 /* Move the finished temporary file over path; on any failure remove it. */
 static rp_status temp_commit(const char *tmp, const char *path, rp_error *err) {
   struct stat st;
@@ -205,13 +189,7 @@ static rp_status temp_commit(const char *tmp, const char *path, rp_error *err) {
     unlink(tmp);
     return rp_error_set(err, RP_EPLOT, "picture '%s': PLplot wrote an empty file", path);
   }
-  if (rename(tmp, path) != 0) {
-    int e = errno;
-    unlink(tmp);
-    return rp_error_set(err, RP_EIO, "picture '%s': cannot rename temporary file: %s", path,
-                        strerror(e));
-  }
-  return RP_OK;
+  return rp_tempfile_commit("picture", tmp, path, err);
 }
 
 static void silent_abort(PLCHAR_VECTOR msg) { (void)msg; }
@@ -228,20 +206,28 @@ static int device_available(const char *dev) {
   return 0;
 }
 
-/* Open a fresh stream drawing one page of width x height to file tmp on device dev,
- * with our colour table. *old_stream receives the caller's stream. */
-static rp_status figure_begin(const char *dev, const char *tmp, const char *path,
+/* Create the temporary file tmp (n bytes) beside path, closed again (PLplot opens it by
+ * name), and open a fresh stream drawing one page of width x height to it on device
+ * dev, with our colour table. *old_stream receives the caller's stream. On failure
+ * the temporary file is removed. */
+static rp_status figure_begin(const char *dev, const char *path, char *tmp, size_t n,
                               int width_px, int height_px, PLINT *old_stream, rp_error *err) {
-  if (!device_available(dev))
+  int fd = -1;
+  RP_TRY(rp_tempfile_create("picture", path, tmp, n, &fd, err));
+  close(fd);
+  if (!device_available(dev)) {
+    unlink(tmp);
     return rp_error_set(err, RP_EPLOT,
                         "picture '%s': PLplot has no '%s' device (Debian package "
                         "plplot-driver-cairo)", path, dev);
+  }
   plgstrm(old_stream);
   plsabort(silent_abort);
   PLINT s = -1;
   plmkstrm(&s);
   if (s < 0) {
     plsabort(NULL);
+    unlink(tmp);
     return rp_error_set(err, RP_EPLOT, "picture '%s': PLplot could not open a new stream "
                         "(all in use)", path);
   }
@@ -814,15 +800,9 @@ rp_status rp_plot_panels(const char *path, const rp_plot_panel *panels, size_t n
     st = rp_error_set(err, RP_ENOMEM, "picture '%s': no memory for %zu points", path, max_n);
     goto done;
   }
-  st = temp_create(path, tmp, sizeof tmp, err);
-  if (st != RP_OK) goto done;
-
   PLINT old_stream;
-  st = figure_begin(dev, tmp, path, width_px, height_px, &old_stream, err);
-  if (st != RP_OK) {
-    unlink(tmp);
-    goto done;
-  }
+  st = figure_begin(dev, path, tmp, sizeof tmp, width_px, height_px, &old_stream, err);
+  if (st != RP_OK) goto done;
   /* Exact page size in mm as the device sees it. */
   PLFLT px0, px1, py0, py1;
   plgspa(&px0, &px1, &py0, &py1);
@@ -1022,14 +1002,9 @@ rp_status rp_plot_ppi_write(const char *path, const rp_plot_ppi *ppi, int width_
   axis_setup(&tp.x, bx0, bx1, 0, side, h_mm);
   axis_setup(&tp.y, by0, by1, 0, side, h_mm);
 
-  st = temp_create(path, tmp, sizeof tmp, err);
-  if (st != RP_OK) goto done;
   PLINT old_stream;
-  st = figure_begin(dev, tmp, path, width_px, height_px, &old_stream, err);
-  if (st != RP_OK) {
-    unlink(tmp);
-    goto done;
-  }
+  st = figure_begin(dev, path, tmp, sizeof tmp, width_px, height_px, &old_stream, err);
+  if (st != RP_OK) goto done;
   {
     PLINT ri[CMAP_N], gi[CMAP_N], bi[CMAP_N];
     for (int k = 0; k < CMAP_N; k++) {

@@ -4,7 +4,7 @@
  * fields are trimmed of blanks, numbers must be complete plain decimals (checked
  * character by character before strtod by rp_decimal_parse, decimal.c, so "nan",
  * "inf", "0x10" and "1.2mm" are refused). Every error names the file, the line and the column (with the bin it
- * belongs to). The format is specified in docs/_parts/format-spectrum.md.
+ * belongs to). The format is specified in docs/guide.md §6.
  *
  * Invariants of a loaded set: n_bins >= 1, n_rows >= 1, the bin geometry passes
  * rp_dsd_spectrum()'s checks, every concentration is finite and >= 0. */
@@ -20,8 +20,6 @@
 
 static const char KEY_CENTER[] = "bin_center_mm";
 static const char KEY_WIDTH[] = "bin_width_mm";
-/* Same slack as the DSD constructor for adjacent bins written in decimals (mm). */
-static const double OVERLAP_SLACK_MM = 1e-9;
 
 void rp_spectrum_free(rp_spectrum_set *s) {
   if (s == NULL) return;
@@ -156,7 +154,7 @@ done:
 static rp_status check_geometry(const where *w, size_t center_line, const double *c,
                                 const double *wd, size_t n) {
   for (size_t j = 0; j < n; j++) {
-    if (c[j] - 0.5 * wd[j] < -OVERLAP_SLACK_MM)
+    if (c[j] - 0.5 * wd[j] < -RP_DSD_BIN_SLACK_MM)
       return rp_error_set(w->err, RP_EPARSE, "%s:%zu: column %zu (bin %zu): centre %g mm "
                           "with width %g mm extends below 0 mm", w->path, w->line, j + 2,
                           j + 1, c[j], wd[j]);
@@ -166,7 +164,7 @@ static rp_status check_geometry(const where *w, size_t center_line, const double
                           "not increasing (%g mm after %g mm)", w->path, center_line, j + 2,
                           j + 1, c[j], c[j - 1]);
     double upper_prev = c[j - 1] + 0.5 * wd[j - 1], lower = c[j] - 0.5 * wd[j];
-    if (upper_prev > lower + OVERLAP_SLACK_MM)
+    if (upper_prev > lower + RP_DSD_BIN_SLACK_MM)
       return rp_error_set(w->err, RP_EPARSE, "%s:%zu: column %zu (bin %zu): bin [%g, %g] "
                           "mm overlaps bin %zu [%g, %g] mm", w->path, w->line, j + 2, j + 1,
                           lower, c[j] + 0.5 * wd[j], j, c[j - 1] - 0.5 * wd[j - 1],

@@ -1,6 +1,6 @@
 /* dsd.c — drop-size distributions, their moments and derived rain quantities.
  *
- * Method (equations in docs/_parts/method-dsd.md):
+ * Method (equations in docs/method.md §7):
  * - Gamma family N(D) = N0 D^mu exp(-Lambda D) (Ulbrich 1983). Truncated moments in
  *   closed form: with a = mu + n + 1 and t = Lambda D,
  *     M_n = N0 Lambda^-a ∫_{Lambda dmin}^{Lambda dmax} t^(a-1) e^-t dt
@@ -45,8 +45,6 @@ static const double QUAD_EPSREL = 1e-10;
 /* Root finder: relative bracket width at convergence and iteration cap. */
 static const double ROOT_XTOL_REL = 1e-13;
 #define ROOT_MAX_ITER 200
-/* Slack when checking that spectrum bins do not overlap (decimal round-off), mm. */
-static const double BIN_OVERLAP_SLACK_MM = 1e-9;
 
 const char *rp_dsd_model_name(rp_dsd_model m) {
   switch (m) {
@@ -202,7 +200,7 @@ rp_status rp_dsd_spectrum(rp_dsd *d, const double *center, const double *width,
     if (!isfinite(width[i]) || width[i] <= 0.0)
       return rp_error_set(err, RP_EINVAL, "spectrum DSD: bin %zu (centre %g mm) width %g "
                           "mm must be finite and > 0", i, center[i], width[i]);
-    if (center[i] - 0.5 * width[i] < -BIN_OVERLAP_SLACK_MM)
+    if (center[i] - 0.5 * width[i] < -RP_DSD_BIN_SLACK_MM)
       return rp_error_set(err, RP_EINVAL, "spectrum DSD: bin %zu (centre %g mm, width %g "
                           "mm) extends below 0 mm", i, center[i], width[i]);
     if (!isfinite(conc[i]) || conc[i] < 0.0)
@@ -216,7 +214,7 @@ rp_status rp_dsd_spectrum(rp_dsd *d, const double *center, const double *width,
                             center[i - 1]);
       double upper_prev = center[i - 1] + 0.5 * width[i - 1];
       double lower = center[i] - 0.5 * width[i];
-      if (upper_prev > lower + BIN_OVERLAP_SLACK_MM)
+      if (upper_prev > lower + RP_DSD_BIN_SLACK_MM)
         return rp_error_set(err, RP_EINVAL, "spectrum DSD: bin %zu [%g, %g] mm overlaps "
                             "bin %zu [%g, %g] mm", i, lower, center[i] + 0.5 * width[i],
                             i - 1, center[i - 1] - 0.5 * width[i - 1], upper_prev);
@@ -327,8 +325,13 @@ static rp_status analytic_moment(const rp_dsd *d, double n, double *m, rp_error 
   if (a > 0.0) {
     double frac;
     RP_TRY(gamma_window(a, x1, x2, &frac, err));
-    /* N0 Gamma(a) Lambda^-a frac, in logs: the factors can be far from 1 */
-    val = frac > 0.0 ? exp(log(d->n0) + lgamma(a) - a * log(lam) + log(frac)) : 0.0;
+    /* N0 Gamma(a) Lambda^-a frac, in logs: the factors can be far from 1. GSL's
+     * ln Gamma, not lgamma(), which writes the global signgam (not thread-safe). */
+    gsl_sf_result lg;
+    const int sg = gsl_sf_lngamma_e(a, &lg);
+    if (sg != GSL_SUCCESS)
+      return rp_error_set(err, RP_EGSL, "ln Gamma(%g) failed: %s", a, gsl_strerror(sg));
+    val = frac > 0.0 ? exp(log(d->n0) + lg.val - a * log(lam) + log(frac)) : 0.0;
   } else {
     if (x1 <= 0.0)
       return rp_error_set(err, RP_EDOM, "moment M%g of a %s DSD with mu = %g diverges at "

@@ -1,7 +1,7 @@
 /* ensemble.c — seeded ensembles of normalised-gamma DSD parameters (log10 Nw, D0, mu)
  * drawn from a climate: a weighted mixture of clusters.
  *
- * Method (equations and parameter sources in docs/_parts/method-relate.md):
+ * Method (equations and parameter sources in docs/method.md §9):
  * - Cluster k is chosen with probability w_k (one uniform deviate u1).
  * - D0 ~ N(m_D, s_D) truncated to [0.5, 3.5] mm, drawn by inverting the truncated CDF:
  *   x = Phi^-1(Phi(a) + u2 (Phi(b) - Phi(a))), a, b the standardised bounds (upper-tail
@@ -43,7 +43,7 @@
  * 354-365; values from memory): stratiform log10 Nw about 3.3-3.5 decreasing with D0;
  * maritime-like convective log10 Nw about 4.5 with D0 about 1.5-1.75 mm; continental-
  * like convective log10 Nw about 3-3.5 with D0 about 2-2.75 mm. The spreads, the
- * correlations and the weights are our own choices (method-relate.md); mu ~ N(3, 2)
+ * correlations and the weights are our own choices (docs/method.md §9); mu ~ N(3, 2)
  * is common practice (from memory). */
 #define STRATIFORM {"stratiform", 0.0, 3.4, 0.30, 1.40, 0.35, -0.5, 3.0, 2.0}
 #define CONV_MARITIME {"convective-maritime", 0.0, 4.5, 0.25, 1.60, 0.25, -0.6, 3.0, 2.0}

@@ -1,7 +1,7 @@
 /* fit.c — power-law relations y = a x1^b [x2^c] by least squares, their confidence
  * intervals, and skill scores on held-out data.
  *
- * Method (docs/_parts/method-relate.md):
+ * Method (docs/method.md §9):
  * - Log fit: ordinary least squares of ln y on (1, ln x1 [, ln x2]); one predictor with
  *   gsl_fit_linear, two with gsl_multifit_linear (SVD; rank checked with
  *   gsl_multifit_linear_rank). Both return the covariance already scaled by

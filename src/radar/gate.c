@@ -4,7 +4,7 @@
  *
  * Method (formulas in include/rainprint/gate.h; Bringi & Chandrasekar 2001, ch. 3
  * (reflectivity factors, rho_hv, delta_hv, LDR) and ch. 7 (K_DP, A_H, A_DP); the unit
- * arithmetic is in docs/_parts/method-gate.md):
+ * arithmetic is in docs/method.md §8):
  *  - Plan: the table's quantities q_j(D_i) are divided by the Rayleigh power of D
  *    (D^6 for backscatter second moments, D^3 for forward amplitudes) and put through
  *    natural cubic splines (GSL). Gauss–Legendre rules with m nodes per table interval
@@ -13,9 +13,10 @@
  *    (pi^4 |K_w|^2), K_DP factor (180/pi) 1e-3 lambda, attenuation factor
  *    (20/ln 10) 1e-3 lambda).
  *  - Analytic DSD: sum_k exp(ln N0 + mu ln D_k - Lambda D_k) (w_k c_j q_j(D_k)).
- *  - Spectrum: N_i times the exact integral of the spline interpolant over each bin
- *    (5-point Gauss–Legendre on each spline piece: D^6 times a cubic is a polynomial
- *    of degree 9).
+ *  - Spectrum: N_i times the integral of the spline interpolant over each bin
+ *    (5-point Gauss–Legendre on each spline piece: exact for D^6 times a cubic, a
+ *    polynomial of degree 9; nearly so with the (1 - r) factor). Below the table's
+ *    smallest diameter, q(D) = q(D_min) (D/D_min)^p, integrated in closed form.
  *  - Fast path: a uniform grid over (x = ln D0, mu) of the Nw = 1 integrals of the
  *    normalised gamma DSD (Bringi et al. 2003 form, c = 3.67) with their exact partial
  *    derivatives (N(D) differentiated under the sum), turned into smooth fields
@@ -398,7 +399,7 @@ static const double GL5_W[5] = {0.5688888888888888889, 0.4786286704993664680,
                                 0.4786286704993664680, 0.2369268850561890875,
                                 0.2369268850561890875};
 
-/* acc += ∫_lo^hi c_j q_j(D) dD of the spline interpolant, exactly (piecewise). */
+/* acc += ∫_lo^hi c_j q_j(D) dD of the spline interpolant, piece by piece. */
 static rp_status bin_integral(const rp_gate_plan *p, double lo, double hi, double acc[NQ],
                               rp_error *err) {
   /* first knot strictly above lo */
@@ -439,10 +440,11 @@ static rp_status eval_spectrum(const rp_gate_plan *p, const rp_dsd *d, double s[
                           "concentration %g m^-3 mm^-1) is malformed", i, c, w, n);
     if (n == 0.0 || c < d->dmin_mm || c > d->dmax_mm) continue;
     double lo = c - 0.5 * w, hi = c + 0.5 * w;
-    if (lo < 0.0 || hi > tmax + D_SLACK_MM)
+    if (lo < -RP_DSD_BIN_SLACK_MM || hi > tmax + D_SLACK_MM)
       return rp_error_set(err, RP_EDOM,
                           "gate: spectrum bin %zu [%g, %g] mm not within the table's "
                           "diameter range [0, %g] mm", i, lo, hi, tmax);
+    lo = fmax(lo, 0.0); /* a lower edge within the slack below 0 is round-off of 0 */
     double acc[NQ] = {0};
     if (lo < tmin) {
       /* Below the table's smallest drop the Rayleigh scaling q ~ D^p holds (p = 6 for
@@ -577,7 +579,7 @@ static const double lin_power[NF] = {0, 0, 0, 0, 0, 5, 4, 5};
 /* Grid: uniform in ln D0 (41 nodes, step 0.061) and mu (27 nodes, step 0.5). Checked
  * by tests/test_gate.c (test_fast_matches_direct_over_whole_grid) on an off-node
  * lattice over the whole grid at S, C and X band: errors <= 3.3e-4 dB and <= 7e-5
- * relative against targets of 0.02 dB and 0.5 % (docs/_parts/method-gate.md). */
+ * relative against targets of 0.02 dB and 0.5 % (docs/method.md §8). */
 #define FAST_NX 41
 #define FAST_NY 27
 #define NCOEF 16

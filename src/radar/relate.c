@@ -1,7 +1,7 @@
 /* relate.c — rain relations for one radar band: samples (rain and radar quantities of
  * many DSDs) and power-law fits between them, scored on held-out samples.
  *
- * Method (docs/_parts/method-relate-glue.md):
+ * Method (docs/method.md §10):
  *  - Ensemble members are normalised gamma DSDs in the D0 form (Bringi et al. 2003),
  *    N(D) = N0 D^mu exp(-Lambda D) on [dmin, dmax]. Their moments in closed form:
  *      M_n = N0 Lambda^-(mu+n+1) [gamma(mu+n+1, Lambda dmin) - gamma(mu+n+1, Lambda dmax)]
@@ -11,7 +11,7 @@
  *    (P the regularised lower incomplete gamma function, inverted by GSL's
  *    gsl_cdf_gamma_Pinv). Rain rate R = 6 pi 1e-4 ∫ v(D) D^3 N(D) dD with the fall law
  *    of Atlas, Srivastava & Sekhon (1973), v = 9.65 - 10.3 exp(-0.6 D) m/s, clipped at 0
- *    below Dc = ln(10.3/9.65)/0.6 = 0.1088 mm, integrated exactly:
+ *    below Dc = ln(10.3/9.65)/0.6 = 0.1086 mm, integrated exactly:
  *      R = 6 pi 1e-4 [9.65 M3(Lambda) - 10.3 M3(Lambda + 0.6)] over [max(dmin, Dc), dmax].
  *    This replaces the adaptive quadrature of rp_dsd_moments_eval (17 us per DSD) by
  *    five incomplete gamma evaluations (3 us); the tests check that both agree.
@@ -32,6 +32,8 @@
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_sf_gamma.h>
+
+#include "io/tempfile.h"
 
 /* ---- relation table ---------------------------------------------------------------- */
 
@@ -503,18 +505,15 @@ rp_status rp_relate_samples_save_csv(const char *path, const rp_relate_sample *s
                             "or line break", l, i);
     }
   char tmp[4096];
-  if (snprintf(tmp, sizeof tmp, "%s.tmp-XXXXXX", path) >= (int)sizeof tmp)
-    return rp_error_set(err, RP_EINVAL, "relate CSV: path '%s' is too long", path);
-  const int fd = mkstemp(tmp);
-  if (fd < 0)
-    return rp_error_set(err, RP_EIO, "%s: cannot create a temporary file beside it: %s", path,
-                        strerror(errno));
+  int fd = -1;
+  RP_TRY(rp_tempfile_create("relate CSV", path, tmp, sizeof tmp, &fd, err));
   FILE *f = fdopen(fd, "w");
   if (f == NULL) {
+    const int e = errno;
     close(fd);
     unlink(tmp);
     return rp_error_set(err, RP_EIO, "%s: cannot open the temporary file: %s", path,
-                        strerror(errno));
+                        strerror(e));
   }
   fputs("index,label,cluster,log10_nw_param,d0_param_mm,mu_param,nt_m3,lwc_g_m3,"
         "rain_rate_mm_h,dm_mm,d0_mm,nw_m3_mm,zh_mm6_m3,zh_dbz,zdr_db,kdp_deg_km,ah_db_km,"
@@ -548,11 +547,5 @@ rp_status rp_relate_samples_save_csv(const char *path, const rp_relate_sample *s
     unlink(tmp);
     return rp_error_set(err, RP_EIO, "%s: writing failed", path);
   }
-  if (rename(tmp, path) != 0) {
-    const int e = errno;
-    unlink(tmp);
-    return rp_error_set(err, RP_EIO, "%s: cannot rename the temporary file into place: %s", path,
-                        strerror(e));
-  }
-  return RP_OK;
+  return rp_tempfile_commit("relate CSV", tmp, path, err);
 }

@@ -44,21 +44,11 @@ static double *column(size_t n) {
 
 static rp_table *make_table(void) {
   const size_t n = 80;
-  rp_table *t = calloc(1, sizeof *t);
-  if (t == NULL) exit(1);
-  t->n = n;
-  t->d_mm = column(n);
-  t->axis_ratio = column(n);
-  t->fall_speed_m_s = column(n);
-  t->back_hh2_mm2 = column(n);
-  t->back_vv2_mm2 = column(n);
-  t->back_hv2_mm2 = column(n);
-  t->back_hhvv_re_mm2 = column(n);
-  t->back_hhvv_im_mm2 = column(n);
-  t->fwd_hh_re_mm = column(n);
-  t->fwd_hh_im_mm = column(n);
-  t->fwd_vv_re_mm = column(n);
-  t->fwd_vv_im_mm = column(n);
+  rp_table *t = rp_table_alloc(n);
+  if (t == NULL) {
+    fprintf(stderr, "bench_gate: out of memory\n");
+    exit(1);
+  }
   const double freq = 5.6;
   double complex eps;
   if (rp_water_permittivity(freq, 10.0, &eps, NULL) != RP_OK) exit(1);
@@ -165,18 +155,6 @@ int main(int argc, char **argv) {
   free(dsd);
   rp_gate_fast_free(f);
   rp_gate_plan_free(p);
-  free(t->d_mm);
-  free(t->axis_ratio);
-  free(t->fall_speed_m_s);
-  free(t->back_hh2_mm2);
-  free(t->back_vv2_mm2);
-  free(t->back_hv2_mm2);
-  free(t->back_hhvv_re_mm2);
-  free(t->back_hhvv_im_mm2);
-  free(t->fwd_hh_re_mm);
-  free(t->fwd_hh_im_mm);
-  free(t->fwd_vv_re_mm);
-  free(t->fwd_vv_im_mm);
-  free(t);
+  rp_table_free(t);
   return 0;
 }
