@@ -188,7 +188,10 @@ static double ray3d_phi(double phi, void *p) {
   const double complex dl = r->ab - r->aa;
   const double complex hh = r->aa + dl * n[1] * n[1], vv = r->aa + dl * n[2] * n[2];
   const double complex hv = dl * n[1] * n[2];
-  const double w = exp(-0.5 * r->beta * r->beta / (r->sigma * r->sigma)) * sin(r->beta);
+  /* density on the sphere exp(-beta^2/(2 sigma^2)), beta in [0, pi], folded onto
+   * [0, 90 deg] by n == -n: the axis at beta and its opposite at pi - beta */
+  const double s2 = 2.0 * r->sigma * r->sigma, bo = M_PI - r->beta;
+  const double w = (exp(-r->beta * r->beta / s2) + exp(-bo * bo / s2)) * sin(r->beta);
   switch (r->which) {
     case 0: return w * abs2(hh);
     case 1: return w * abs2(vv);
@@ -234,10 +237,40 @@ static void test_3d_canting_quadrature_matches_adaptive_reference(void **state) 
   ray3d ref = {.sigma = 10.0 * M_PI / 180.0, .aa = pref * sph.alpha_a_mm3, .ab = pref * sph.alpha_b_mm3};
   /* 16 x 6 nodes vs adaptive 1e-10 over the untruncated density on [0, 90 deg]: the
    * truncation at 6 sigma dominates; 1e-5 relative (1e-4 for the small cross-polar
-   * term). The wrapped images are < 1e-40 at sigma = 10 deg and do not matter. */
+   * term). The opposite-axis image is below e^-72 (1e-31) on [0, 6 sigma] at
+   * sigma = 10 deg and does not matter. */
   assert_close(r.avg.back_hh2_mm2, ray3d_avg(&ref, 0), 1e-5, 0.0);
   assert_close(r.avg.back_vv2_mm2, ray3d_avg(&ref, 1), 1e-5, 0.0);
   assert_close(r.avg.back_hv2_mm2, ray3d_avg(&ref, 2), 1e-4, 0.0);
+}
+
+/* Broad 3-D canting (sigma = 45 deg): here the opposite-axis image exp(-(pi - beta)^2 /
+ * (2 sigma^2)) carries real weight near 90 deg, while tilts past 180 deg do not exist on
+ * the sphere (an image at beta + 180 deg would add up to e^-8 = 3e-4 of the weight near
+ * beta = 0); at sigma = 30 deg that image alone moves <|f_hh|^2> by 2e-6. Same reference
+ * as above; with beta_max = 90 deg nothing is truncated and the 16 x 6 rule integrates
+ * the smooth integrand to ~1e-12 (measured), so 1e-6 relative (1e-5 for the small
+ * cross-polar term) separates a wrong density from quadrature error. */
+static void test_3d_canting_density_folds_onto_the_opposite_axis_only(void **state) {
+  (void)state;
+  const double sds[] = {30.0, 45.0};
+  for (size_t i = 0; i < 2; i++) {
+    rp_drop_config c = config(2.8, sds[i], 0.0, RP_METHOD_RAYLEIGH);
+    c.canting_model = RP_CANTING_3D;
+    const double d = 4.0;
+    const rp_drop_result r = eval_or_fail(&c, d);
+    rp_rayleigh_spheroid sph;
+    rp_error err = {0};
+    assert_int_equal(
+        rp_rayleigh_spheroid_init(&sph, d, r.axis_ratio, r.wavelength_mm, r.eps, &err), RP_OK);
+    const double pref = sph.k_per_mm * sph.k_per_mm / (4.0 * M_PI);
+    ray3d ref = {.sigma = sds[i] * M_PI / 180.0,
+                 .aa = pref * sph.alpha_a_mm3,
+                 .ab = pref * sph.alpha_b_mm3};
+    assert_close(r.avg.back_hh2_mm2, ray3d_avg(&ref, 0), 1e-6, 0.0);
+    assert_close(r.avg.back_vv2_mm2, ray3d_avg(&ref, 1), 1e-6, 0.0);
+    assert_close(r.avg.back_hv2_mm2, ray3d_avg(&ref, 2), 1e-5, 0.0);
+  }
 }
 
 static void test_band_names_and_frequencies(void **state) {
@@ -296,6 +329,17 @@ static void test_bad_config_and_diameter_are_refused(void **state) {
   assert_non_null(strstr(err.msg, "diameter"));
   rp_drop_ws_free(ws);
 
+  /* a config that fails the check gets no workspace (it would average with NaN
+   * weights) */
+  rp_drop_config_default(&c);
+  c.canting_sd_deg = NAN;
+  assert_null(rp_drop_ws_alloc(&c));
+  rp_drop_config_default(&c);
+  c.elevation_deg = NAN;
+  assert_null(rp_drop_ws_alloc(&c));
+  assert_null(rp_drop_ws_alloc(NULL));
+
+  rp_drop_config_default(&c);
   c.method = RP_METHOD_MIE; /* default shape is not a sphere */
   ws = rp_drop_ws_alloc(&c);
   assert_int_equal(rp_drop_eval(ws, 3.0, &r, &err), RP_EINVAL);
@@ -316,6 +360,7 @@ int main(void) {
       cmocka_unit_test(test_angular_moments_equal_quadrature_for_planar_canting),
       cmocka_unit_test(test_angular_moments_approximate_quadrature_at_elevation),
       cmocka_unit_test(test_3d_canting_quadrature_matches_adaptive_reference),
+      cmocka_unit_test(test_3d_canting_density_folds_onto_the_opposite_axis_only),
       cmocka_unit_test(test_band_names_and_frequencies),
       cmocka_unit_test(test_bad_config_and_diameter_are_refused),
   };

@@ -108,7 +108,8 @@ static void test_rayleigh_depolarization_sum_rule(void **state) {
 }
 
 /* Each factor against direct numerical integration (GSL qagiu, requested 1e-12
- * relative); 1e-8 as the brief asks (the quadrature's reported error is far smaller). */
+ * relative); 1e-8 leaves a margin for the semi-infinite range's slowly decaying tail
+ * near the disc and needle limits (the quadrature's reported error is far smaller). */
 static void test_rayleigh_depolarization_matches_quadrature(void **state) {
   (void)state;
   for (size_t i = 0; i < N_RATIOS; i++) {

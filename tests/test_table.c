@@ -160,6 +160,32 @@ static void test_table_build_refuses_bad_grid(void **state) {
   assert_null(t);
 }
 
+/* A grid ending at the 10 mm limit: 0.05 + 199 * 0.05 rounds to 10.000000000000002,
+ * which rp_drop_eval refuses as outside (0, 10] mm; the last diameter must be 10 mm
+ * exactly (the grid's own end point) and every diameter inside the domain. Rayleigh
+ * keeps the 200 drops cheap. Diameters are exact grid values: 1e-12 relative. */
+static void test_table_build_grid_ending_at_10_mm_stays_in_domain(void **state) {
+  (void)state;
+  rp_drop_config c;
+  rp_drop_config_default(&c);
+  c.method = RP_METHOD_RAYLEIGH;
+  rp_table *t = NULL;
+  rp_error err = {0};
+  if (rp_table_build(&c, 0.05, 10.0, 0.05, &t, &err) != RP_OK) fail_msg("build: %s", err.msg);
+  assert_int_equal(t->n, 200);
+  assert_true(t->d_mm[t->n - 1] == 10.0);
+  for (size_t i = 0; i < t->n; i++) {
+    assert_close(t->d_mm[i], 0.05 * (double)(i + 1), 1e-12, 0.0);
+    assert_true(t->d_mm[i] <= 10.0);
+  }
+  rp_table_free(t);
+  /* a grid whose last point falls short of dmax keeps its uniform step (no dmax point) */
+  if (rp_table_build(&c, 0.3, 10.0, 0.3, &t, &err) != RP_OK) fail_msg("build: %s", err.msg);
+  assert_int_equal(t->n, 33);
+  assert_close(t->d_mm[t->n - 1], 9.9, 1e-12, 0.0);
+  rp_table_free(t);
+}
+
 /* The shipped C-band 10 C table, regenerated with today's code, must agree with the
  * file (scattering/README.md gives the command). 1e-9 relative: same code and inputs,
  * only summation order across threads may differ. */
@@ -227,6 +253,7 @@ int main(void) {
       cmocka_unit_test(test_table_load_refuses_malformed_files),
       cmocka_unit_test(test_table_save_failure_leaves_no_file),
       cmocka_unit_test(test_table_build_refuses_bad_grid),
+      cmocka_unit_test(test_table_build_grid_ending_at_10_mm_stays_in_domain),
       cmocka_unit_test(test_shipped_table_regenerates),
       cmocka_unit_test(test_table_obtain_prefers_shipped_then_cache),
   };

@@ -13,10 +13,12 @@
  * Orientation: the symmetry axis n of the drop is vertical (z) at zero canting.
  *   RP_CANTING_PLANAR: n = cos(beta) z + sin(beta) y, tilt in the vertical plane
  *     across the beam (the polarisation plane at zero elevation); beta is Gaussian
- *     with mean 0 and standard deviation sigma, truncated at +-90 deg.
+ *     with mean 0 and standard deviation sigma, wrapped (beta and beta + 180 deg are
+ *     the same orientation, so the images beta + k 180 deg add up).
  *   RP_CANTING_3D: n = (sin beta cos phi, sin beta sin phi, cos beta) with phi uniform
  *     and an orientation density on the sphere proportional to exp(-beta^2/(2 sigma^2)),
- *     so beta has density ~ exp(-beta^2/(2 sigma^2)) sin(beta) on [0, 90 deg].
+ *     beta in [0, 180 deg]; folded by n == -n, beta in [0, 90 deg] has density
+ *     ~ [exp(-beta^2/(2 sigma^2)) + exp(-(180 deg - beta)^2/(2 sigma^2))] sin(beta).
  * Averages of the second moments (<|f_hh|^2>, ...) and of the forward amplitudes are
  * taken by quadrature over the distribution with the exact amplitudes. The optional
  * angular-moment approximation instead rotates the zero-canting amplitudes with
@@ -87,7 +89,8 @@ typedef struct {
 typedef struct rp_drop_ws rp_drop_ws;
 
 /* Workspace for one thread: the T-matrix workspace and the orientation quadrature
- * for cfg. NULL on out-of-memory. cfg must have passed rp_drop_config_check. */
+ * for cfg (copied). NULL on out-of-memory, or for a NULL cfg or one that fails
+ * rp_drop_config_check (call that first for the message). Free with rp_drop_ws_free. */
 rp_drop_ws *rp_drop_ws_alloc(const rp_drop_config *cfg);
 void rp_drop_ws_free(rp_drop_ws *ws);
 

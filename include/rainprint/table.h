@@ -13,7 +13,8 @@
 #include "rainprint/status.h"
 
 /* Default diameter grid: 0.1 to 8.0 mm in 0.1 mm steps (80 diameters). The step keeps
- * DSD integrals converged to 0.01 dB (tests/test_table.c). */
+ * DSD integrals converged to 0.01 dB (tests/test_gate.c,
+ * test_default_table_step_is_converged). */
 #define RP_TABLE_DMIN_DEFAULT_MM 0.1
 #define RP_TABLE_DMAX_DEFAULT_MM 8.0
 #define RP_TABLE_DSTEP_DEFAULT_MM 0.1
@@ -38,20 +39,22 @@ rp_table *rp_table_alloc(size_t n);
 void rp_table_free(rp_table *t);   /* NULL ok */
 
 /* Compute a table for cfg on the grid dmin_mm, dmin_mm + dstep_mm, ..., <= dmax_mm
- * (+ a rounding allowance), in parallel over diameters (OpenMP). Caller frees *out.
+ * (a point within 1e-9 steps of dmax_mm counts, and a last point that rounding puts
+ * past dmax_mm is dmax_mm), in parallel over diameters (OpenMP). Caller frees *out.
  * Statuses: RP_EINVAL/RP_EDOM for a bad grid or config, RP_ENOCONV if the T-matrix
  * fails for any diameter (the message names it), RP_ENOMEM. */
 rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
                          double dstep_mm, rp_table **out, rp_error *err);
 
 /* Write t to path as netCDF-4 (temporary file in the same folder, then rename: the file
- * appears whole or not at all). RP_ENETCDF / RP_EIO on failure. */
+ * appears whole or not at all). RP_ENETCDF / RP_EIO on failure, RP_EINVAL for a path
+ * too long for the temporary name. */
 rp_status rp_table_save(const rp_table *t, const char *path, rp_error *err);
 
 /* Read and check a table: required variables and attributes present with the right
  * types, sizes and units, diameters strictly increasing in (0, 10] mm, every value
  * finite, second moments >= 0, config in range. Caller frees *out.
- * RP_EIO for a missing/unreadable file, RP_ETABLE for a malformed one. */
+ * RP_EIO for a missing/unreadable file, RP_ETABLE for a malformed one, RP_ENOMEM. */
 rp_status rp_table_load(const char *path, rp_table **out, rp_error *err);
 
 /* RP_OK when t was computed for cfg (frequency, temperature, shape or fixed axis ratio,

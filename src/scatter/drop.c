@@ -205,15 +205,21 @@ void rp_drop_hv_amplitudes(rp_amplitude_fn amp, const void *ctx, const double ax
 
 /* ---- orientation quadrature ---------------------------------------------------- */
 
-/* Gaussian in the tilt angle, wrapped: an axis tilted by beta + k*180 deg is the same
- * orientation, so the density at beta in [0, 90] deg sums the images (k = -2..2 is
- * exhaustive for sigma <= 45 deg). Tilts beyond 90 deg fold back onto 180 - beta, which
- * the image at k = 1 (pi - beta, by evenness) covers. */
-static double wrapped_gaussian(double beta, double sigma) {
+/* Weight of the tilt angle beta in [0, 90] deg, before the sin(beta) of the 3-D model.
+ * An axis and its opposite are the same orientation of a spheroid, so the Gaussian is
+ * folded onto [0, 90] deg:
+ *   planar: beta is an angle in a plane and beta + k*180 deg are the same orientation,
+ *     so the images beta + k pi are summed (wrapped Gaussian; k = -2..2 is exhaustive
+ *     for sigma <= 45 deg);
+ *   3-D: beta is a polar angle in [0, 180] deg on the sphere, so the only image is the
+ *     opposite axis at pi - beta (there is no tilt beyond 180 deg to wrap). */
+static double folded_gaussian(double beta, double sigma, rp_canting_model model) {
+  const double s2 = 2.0 * sigma * sigma, bo = M_PI - beta;
+  if (model == RP_CANTING_3D) return exp(-beta * beta / s2) + exp(-bo * bo / s2);
   double sum = 0.0;
   for (int k = -2; k <= 2; k++) {
     const double b = beta + (double)k * M_PI;
-    sum += exp(-0.5 * b * b / (sigma * sigma));
+    sum += exp(-b * b / s2);
   }
   return sum;
 }
@@ -236,7 +242,7 @@ static int build_orientations(rp_drop_ws *ws) {
   for (size_t i = 0; i < N_BETA; i++) {
     double beta, w;
     gsl_integration_glfixed_point(0.0, beta_max, i, &beta, &w, gl);
-    w *= wrapped_gaussian(beta, sigma);
+    w *= folded_gaussian(beta, sigma, c->canting_model);
     if (c->canting_model == RP_CANTING_3D) w *= sin(beta);
     for (size_t j = 0; j < n_phi; j++) {
       if (c->canting_model == RP_CANTING_3D) {
@@ -260,6 +266,9 @@ static int build_orientations(rp_drop_ws *ws) {
 }
 
 rp_drop_ws *rp_drop_ws_alloc(const rp_drop_config *cfg) {
+  /* an unchecked config (a NaN canting SD or elevation) would give NaN weights and
+   * silently NaN averages */
+  if (cfg == NULL || rp_drop_config_check(cfg, NULL) != RP_OK) return NULL;
   rp_drop_ws *ws = calloc(1, sizeof *ws);
   if (ws == NULL) return NULL;
   ws->cfg = *cfg;

@@ -27,7 +27,6 @@ typedef struct {
   int non_negative;
 } var_desc;
 
-#define VAR(field, units, long_name, nonneg) {#field, units, long_name, offsetof(rp_table, field), nonneg}
 /* Variable names in the file are the member names without their unit suffix. */
 static const var_desc table_vars[] = {
     {"diameter", "mm", "equal-volume drop diameter", offsetof(rp_table, d_mm), 1},
@@ -53,7 +52,6 @@ static const var_desc table_vars[] = {
     {"fwd_vv_im", "mm", "imaginary part of canting-averaged forward amplitude f_vv(0)",
      offsetof(rp_table, fwd_vv_im_mm), 1},
 };
-#undef VAR
 #define N_VARS (sizeof table_vars / sizeof table_vars[0])
 
 static double **member(rp_table *t, size_t i) {
@@ -122,8 +120,11 @@ rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_
 #pragma omp for schedule(dynamic, 2)
     for (size_t i = 0; i < n; i++) {
       rp_status s = RP_OK;
-      const double d = dmin_mm + (double)i * dstep_mm;
       rp_drop_result r;
+      /* rounding (and the 1e-9 allowance of grid_size) can put the last point a few
+       * ulp past dmax, e.g. 10.000000000000002 for 0.05..10 by 0.05, which is outside
+       * (0, 10] mm: clamp it to dmax */
+      const double d = fmin(dmin_mm + (double)i * dstep_mm, dmax_mm);
       if (ws == NULL) {
         s = rp_error_set(&local, RP_ENOMEM, "out of memory for a drop workspace");
       } else {

@@ -6,7 +6,7 @@
  * Particles", ch. 5 (T-matrix for rotationally symmetric particles) and the appendix
  * on vector spherical wave functions (VSWF). The formulas below were derived from the
  * Stratton-Chu surface representation with the outgoing dyadic Green's function
- * expanded in VSWF; the method notes (docs/_parts/method-scatter.md) give the steps.
+ * expanded in VSWF; docs/method.md (section 6, T-matrix) gives the steps.
  *
  * VSWF (d_n = sqrt((2n+1) / (4 pi n(n+1))), d^n_{0m} normalised Wigner d functions,
  * pi_mn = m d^n_{0m}/sin(theta), tau_mn = d d^n_{0m}/d theta, z_n = h_n^(1) or j_n):
