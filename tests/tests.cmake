@@ -17,7 +17,8 @@ foreach(src ${RP_TEST_SOURCES})
 endforeach()
 
 # Checks against a general-purpose reference library (SciPy, Debian's python3-scipy).
-# Each tests/ref_*.py receives the path of the tool and of a small helper binary.
+# Each tests/ref_*.py receives the path of the tool and the build folder, where it finds
+# the helper it drives (a test binary, e.g. test_dsd).
 find_program(RP_SYSTEM_PYTHON NAMES python3 PATHS /usr/bin NO_DEFAULT_PATH)
 file(GLOB RP_REF_SCRIPTS CONFIGURE_DEPENDS ${CMAKE_SOURCE_DIR}/tests/ref_*.py)
 foreach(script ${RP_REF_SCRIPTS})

@@ -28,7 +28,8 @@ int rp_cli_fail(const char *cmd, rp_status s, const char *fmt, ...)
 /* Same, from an rp_error filled by the library. */
 int rp_cli_fail_err(const char *cmd, const rp_error *err);
 
-/* Strict number parsing: the whole text must be a finite number. */
+/* Strict number parsing: the whole text must be a finite number (doubles: a plain
+ * decimal as in the input files, io/decimal.h; whole numbers: strtol, base 10). */
 int rp_cli_parse_double(const char *cmd, const char *opt, const char *text, double *out);
 int rp_cli_parse_long(const char *cmd, const char *opt, const char *text, long *out);
 
@@ -78,11 +79,26 @@ const char *rp_cli_scatter_band(const rp_cli_scatter *s);
 /* After parsing: resolves band/frequency, checks the config. 0 or an exit code. */
 int rp_cli_scatter_finish(const char *cmd, rp_cli_scatter *s);
 
-/* JSON helpers: {re, im}; a real that is non-finite becomes null. */
+/* JSON helpers: {re, im}; a real that is non-finite becomes null; text (a label, a file
+ * name) as a JSON string, with the bytes of text that is not valid UTF-8 replaced by '?'
+ * (jansson refuses such text, and the key would silently go missing); NULL -> null. */
 json_t *rp_json_complex(double complex z);
 json_t *rp_json_real(double x);
+json_t *rp_json_text(const char *text);
 /* Print a JSON value to stdout (indent 2, 10 significant digits) and release it. */
 int rp_json_print(json_t *root);
+
+/* Output files written whole or not at all when a command writes several: create an
+ * empty temporary file "PATH.tmp-XXXXXX" next to path (name into tmp, n bytes) with the
+ * permissions a new file gets, fill it, then rp_cli_temp_commit renames it over path.
+ * rp_cli_temp_create returns an open descriptor, or -1 after a message naming opt
+ * (e.g. "csv"); rp_cli_temp_commit returns 0, or an exit code after a message (tmp is
+ * removed). */
+int rp_cli_temp_create(const char *cmd, const char *opt, const char *path, char *tmp, size_t n);
+int rp_cli_temp_commit(const char *cmd, const char *opt, const char *tmp, const char *path);
+/* 0 when a --plot name ends in .png, .svg or .pdf (any case), else an exit code after a
+ * message: checked before any work is done. */
+int rp_cli_check_plot_path(const char *cmd, const char *path);
 
 /* Where the tool finds its data: $RAINPRINT_TABLES / $RAINPRINT_PRESETS, else the
  * source tree's scattering/ and dsd-presets/; the table cache is $RAINPRINT_CACHE, else
@@ -119,7 +135,8 @@ extern const char rp_cli_dsd_help[];
 
 typedef struct {
   const char *preset, *model, *spectrum;
-  double n0, lambda, mu, nw, d0, dm, rain_rate, dmin, dmax, kw2;
+  double n0, lambda, mu, nw, d0, dm, rain_rate, kw2;
+  double dmin, dmax;     /* NaN: not given (a preset's own truncation, else the default) */
   double height_km;      /* NaN: fall speeds as the formula gives them */
   unsigned given;   /* bit per RP_OPT_N0..RP_OPT_RAIN_RATE */
   long row;         /* 1-based spectrum row */

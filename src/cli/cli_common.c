@@ -1,12 +1,16 @@
 /* cli_common.c — option parsing, error reporting and JSON output shared by commands. */
 #include "cli/cli.h"
+#include "io/tempfile.h"
 
 #include <errno.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
+#include <unistd.h>
 
+#include "io/decimal.h"
 #include "rainprint/shape.h"
 
 int rp_cli_fail(const char *cmd, rp_status s, const char *fmt, ...) {
@@ -23,16 +27,19 @@ int rp_cli_fail_err(const char *cmd, const rp_error *err) {
   return rp_cli_fail(cmd, err->status, "%s", err->msg[0] ? err->msg : rp_status_message(err->status));
 }
 
+/* Option values follow the plain-decimal rule of the input files (io/decimal.h): no
+ * nan, inf, hex, blanks or trailing text. */
 int rp_cli_parse_double(const char *cmd, const char *opt, const char *text, double *out) {
-  char *end = NULL;
-  errno = 0;
-  const double x = strtod(text, &end);
-  if (end == text || *end != '\0' || errno == ERANGE || !isfinite(x)) {
-    rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is not a finite number", opt, text);
-    return -1;
+  switch (rp_decimal_parse(text, out)) {
+    case RP_DECIMAL_OK: return 0;
+    case RP_DECIMAL_OUT_OF_RANGE:
+      rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is out of the range of a double", opt, text);
+      return -1;
+    default:
+      rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is not a finite number (plain decimal, e.g. 2.5 "
+                  "or 1e3)", opt, text);
+      return -1;
   }
-  *out = x;
-  return 0;
 }
 
 int rp_cli_parse_long(const char *cmd, const char *opt, const char *text, long *out) {
@@ -143,6 +150,19 @@ int rp_cli_scatter_finish(const char *cmd, rp_cli_scatter *s) {
 
 json_t *rp_json_real(double x) { return isfinite(x) ? json_real(x) : json_null(); }
 
+json_t *rp_json_text(const char *text) {
+  if (text == NULL) return json_null();
+  json_t *j = json_string(text);
+  if (j != NULL) return j;
+  char *copy = strdup(text);
+  if (copy == NULL) return NULL;
+  for (char *p = copy; *p; p++)
+    if ((unsigned char)*p >= 0x80) *p = '?';
+  j = json_string(copy);
+  free(copy);
+  return j;
+}
+
 json_t *rp_json_complex(double complex z) {
   return json_pack("{s:o, s:o}", "re", rp_json_real(creal(z)), "im", rp_json_real(cimag(z)));
 }
@@ -161,4 +181,37 @@ int rp_json_print(json_t *root) {
   puts(text);
   free(text);
   return RP_EXIT_OK;
+}
+
+/* Thin wrappers over the library's io/tempfile helpers, reporting as the tool does. */
+int rp_cli_temp_create(const char *cmd, const char *opt, const char *path, char *tmp, size_t n) {
+  char what[64];
+  snprintf(what, sizeof what, "--%s", opt);
+  rp_error err = {0};
+  int fd = -1;
+  if (rp_tempfile_create(what, path, tmp, n, &fd, &err) != RP_OK) {
+    rp_cli_fail_err(cmd, &err);
+    return -1;
+  }
+  return fd;
+}
+
+int rp_cli_temp_commit(const char *cmd, const char *opt, const char *tmp, const char *path) {
+  char what[64];
+  snprintf(what, sizeof what, "--%s", opt);
+  rp_error err = {0};
+  if (rp_tempfile_commit(what, tmp, path, &err) != RP_OK) return rp_cli_fail_err(cmd, &err);
+  return 0;
+}
+
+static int has_extension(const char *path, const char *ext) {
+  const size_t n = strlen(path), e = strlen(ext);
+  return n > e && strcasecmp(path + n - e, ext) == 0;
+}
+
+int rp_cli_check_plot_path(const char *cmd, const char *path) {
+  if (has_extension(path, ".png") || has_extension(path, ".svg") || has_extension(path, ".pdf"))
+    return 0;
+  return rp_cli_fail(cmd, RP_EINVAL, "--plot '%s': the name must end in .png, .svg or .pdf",
+                     path);
 }

@@ -42,15 +42,16 @@ const char rp_cli_dsd_help[] =
     "  --nw X                 normalised intercept (m^-3 mm^-1)\n"
     "  --d0 MM, --dm MM       median-volume / mass-weighted mean diameter\n"
     "  --rain-rate MM_H       rain rate for marshall-palmer\n"
-    "  --dmin MM, --dmax MM   truncation of analytic DSDs (default 0.1 and 8)\n"
+    "  --dmin MM, --dmax MM   truncation of analytic DSDs (default: the preset's, else\n"
+    "                         0.1 and 8)\n"
     "  --kw2 X                |K_w|^2 used to form Z (default 0.93)\n"
     "  --height KM            correct fall speeds (rain rate) to the air density of the\n"
     "                         standard atmosphere at this height (default: none)\n";
 
 void rp_cli_dsd_init(rp_cli_dsd *o) {
   memset(o, 0, sizeof *o);
-  o->dmin = RP_DSD_DMIN_DEFAULT_MM;
-  o->dmax = RP_DSD_DMAX_DEFAULT_MM;
+  o->dmin = NAN; /* not given: the preset's truncation, else the default */
+  o->dmax = NAN;
   o->kw2 = 0.93;
   o->height_km = NAN;
   o->row = 1;
@@ -178,6 +179,11 @@ int rp_cli_dsd_build(const char *cmd, const rp_cli_dsd *o, rp_cli_dsd_built *out
     return rp_cli_fail(cmd, RP_EINVAL, "give exactly one of --preset, --dsd and --spectrum");
   if (o->model == NULL && o->given)
     return rp_cli_fail(cmd, RP_EINVAL, "DSD parameters (--n0, --mu, ...) go with --dsd");
+  if (o->spectrum == NULL && o->row != 1)
+    return rp_cli_fail(cmd, RP_EINVAL, "--row %ld picks a row of --spectrum FILE.csv", o->row);
+  if (o->spectrum != NULL && !(isnan(o->dmin) && isnan(o->dmax)))
+    return rp_cli_fail(cmd, RP_EINVAL, "--dmin/--dmax truncate analytic DSDs; a --spectrum "
+                       "keeps its own bins");
   int rc;
   if (o->preset != NULL) {
     rp_preset p;
@@ -193,8 +199,13 @@ int rp_cli_dsd_build(const char *cmd, const rp_cli_dsd *o, rp_cli_dsd_built *out
     return build_spectrum(cmd, o, out); /* spectra keep their own bins */
   }
   if (rc) return rc;
+  /* A preset keeps its own truncation (its file may set one) unless the user gives one. */
+  const double dmin = !isnan(o->dmin) ? o->dmin
+                      : o->preset != NULL ? out->dsd.dmin_mm : RP_DSD_DMIN_DEFAULT_MM;
+  const double dmax = !isnan(o->dmax) ? o->dmax
+                      : o->preset != NULL ? out->dsd.dmax_mm : RP_DSD_DMAX_DEFAULT_MM;
   rp_error err = {0};
-  if (rp_dsd_set_truncation(&out->dsd, o->dmin, o->dmax, &err) != RP_OK)
+  if (rp_dsd_set_truncation(&out->dsd, dmin, dmax, &err) != RP_OK)
     return rp_cli_fail(cmd, err.status, "--dmin/--dmax: %s", err.msg);
   return 0;
 }
@@ -226,7 +237,10 @@ int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const c
     names[n] = rp_band_of_frequency(freqs[n]); /* canonical spelling of the letter */
     n++;
     p += len;
-    if (*p == ',') p++;
+    if (*p == ',' && *++p == '\0') { /* a trailing comma: an empty last band */
+      rp_cli_fail(cmd, RP_EINVAL, "--band: '%s' is not a list such as S,C,X", text);
+      return -1;
+    }
   }
   if (n == 0) rp_cli_fail(cmd, RP_EINVAL, "--band: empty list");
   return n > 0 ? n : -1;

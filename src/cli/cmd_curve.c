@@ -6,8 +6,8 @@
  *
  * Method: no numerics here. Each value builds a DSD with the library constructors
  * (rp_dsd_normalized_gamma_d0/_dm, rp_dsd_gamma, rp_dsd_marshall_palmer; formulas in
- * docs/_parts/method-dsd.md) or a scattering configuration, and goes through
- * rp_gate_run (gate integrator, docs/_parts/method-gate.md), which keeps the tables of
+ * docs/method.md §7) or a scattering configuration, and goes through
+ * rp_gate_run (gate integrator, docs/method.md §8), which keeps the tables of
  * the process so each configuration's table is obtained once.
  *
  * Invariants: every value is checked (DSD built, configuration checked) before anything
@@ -19,8 +19,6 @@
 #include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
-#include <strings.h>
-#include <sys/stat.h>
 #include <unistd.h>
 
 #include "cli/cli.h"
@@ -197,11 +195,6 @@ static int parse_variables(const char *text, curve_opts *c) {
   return 0;
 }
 
-static int has_extension(const char *path, const char *ext) {
-  const size_t n = strlen(path), e = strlen(ext);
-  return n > e && strcasecmp(path + n - e, ext) == 0;
-}
-
 /* ---- the values and the base -------------------------------------------------------- */
 
 static void fill_values(const curve_opts *c, double *x) {
@@ -353,18 +346,8 @@ static void write_csv(FILE *f, const curve_opts *c, const rp_gate_request *req, 
 /* A temporary file next to path, opened for writing with the permissions a new file
  * would get. NULL (message printed) when it cannot be created. */
 static FILE *open_temp(const char *path, char *tmp, size_t n) {
-  if (snprintf(tmp, n, "%s.tmp-XXXXXX", path) >= (int)n) {
-    rp_cli_fail(CMD, RP_EINVAL, "--csv: path '%s' is too long", path);
-    return NULL;
-  }
-  const int fd = mkstemp(tmp);
-  if (fd < 0) {
-    rp_cli_fail(CMD, RP_EIO, "--csv: cannot create a file next to '%s': %s", path, strerror(errno));
-    return NULL;
-  }
-  const mode_t mask = umask(0);
-  umask(mask);
-  (void)fchmod(fd, (mode_t)(0666 & ~mask));
+  const int fd = rp_cli_temp_create(CMD, "csv", path, tmp, n);
+  if (fd < 0) return NULL;
   FILE *f = fdopen(fd, "w");
   if (f == NULL) {
     rp_cli_fail(CMD, RP_EIO, "--csv: cannot open '%s': %s", tmp, strerror(errno));
@@ -385,14 +368,19 @@ static int close_temp(FILE *f, const char *tmp, const char *path) {
   return 0;
 }
 
+/* The band in JSON: its letter, or null for an explicit --frequency (as in every
+ * command's JSON; the CSV writes "9.4 GHz" there instead). */
+static json_t *band_json(const rp_gate_request *req, int b) {
+  return req->band[b] != NULL ? json_string(req->band[b]) : json_null();
+}
+
 static json_t *curve_json(const curve_opts *c, const rp_gate_request *req,
                           const rp_cli_dsd_built *base, const double *x,
                           const rp_gate_run_result *res) {
   json_t *values = json_array(), *bands = json_array(), *rows = json_array();
-  char buf[32];
   for (size_t i = 0; i < (size_t)c->steps; i++) json_array_append_new(values, rp_json_real(x[i]));
   for (int b = 0; b < req->n_bands; b++)
-    json_array_append_new(bands, json_pack("{s:s, s:o}", "band", band_name(req, b, buf, sizeof buf),
+    json_array_append_new(bands, json_pack("{s:o, s:o}", "band", band_json(req, b),
                                            "frequency_ghz", rp_json_real(req->freq_ghz[b])));
   for (size_t i = 0; i < (size_t)c->steps; i++) {
     double mom[N_MOMENT_COLUMNS];
@@ -400,7 +388,7 @@ static json_t *curve_json(const curve_opts *c, const rp_gate_request *req,
     for (int b = 0; b < req->n_bands; b++) {
       json_t *r = json_object();
       json_object_set_new(r, VARY[c->vary].column, rp_json_real(x[i]));
-      json_object_set_new(r, "band", json_string(band_name(req, b, buf, sizeof buf)));
+      json_object_set_new(r, "band", band_json(req, b));
       json_object_set_new(r, "frequency_ghz", rp_json_real(req->freq_ghz[b]));
       for (size_t k = 0; k < N_RESULT_COLUMNS; k++)
         json_object_set_new(r, RESULT_COLUMNS[k],
@@ -427,10 +415,12 @@ static json_t *curve_json(const curve_opts *c, const rp_gate_request *req,
   /* The varied one has no single value: see "values". */
   if (VARY[c->vary].dsd_code == 0) json_object_set_new(scatter, VARY[c->vary].column, json_null());
   json_t *dsd = json_object();
-  json_object_set_new(dsd, "label", json_string(base->label));
+  json_object_set_new(dsd, "label", rp_json_text(base->label));
   json_object_set_new(dsd, "model", json_string(rp_dsd_model_name(base->dsd.model)));
   json_object_set_new(dsd, "dmin_mm", rp_json_real(base->dsd.dmin_mm));
   json_object_set_new(dsd, "dmax_mm", rp_json_real(base->dsd.dmax_mm));
+  json_object_set_new(dsd, "fall_speed_height_km",
+                      req->correct_fall_speed ? rp_json_real(req->height_km) : json_null());
   return json_pack("{s:s, s:s, s:s, s:b, s:o, s:o, s:o, s:o, s:o}", "vary", VARY[c->vary].name,
                    "column", VARY[c->vary].column, "unit", VARY[c->vary].unit, "log", c->log,
                    "base_dsd", dsd, "scattering", scatter, "values", values, "bands", bands,
@@ -600,10 +590,7 @@ static int check_opts(curve_opts *c) {
                        c->to);
   if (c->log && !(c->from > 0.0))
     return rp_cli_fail(CMD, RP_EINVAL, "--log needs --from > 0 (got %g)", c->from);
-  if (c->plot_path != NULL && !has_extension(c->plot_path, ".png") &&
-      !has_extension(c->plot_path, ".svg") && !has_extension(c->plot_path, ".pdf"))
-    return rp_cli_fail(CMD, RP_EINVAL, "--plot '%s': the name must end in .png, .svg or .pdf",
-                       c->plot_path);
+  if (c->plot_path != NULL && rp_cli_check_plot_path(CMD, c->plot_path)) return RP_EXIT_USAGE;
   if (c->variables != NULL && c->plot_path == NULL)
     return rp_cli_fail(CMD, RP_EINVAL, "--variables chooses what --plot draws; give --plot FILE");
   if (parse_variables(c->variables ? c->variables : "zh,zdr,kdp,ah", c)) return RP_EXIT_USAGE;
@@ -683,16 +670,11 @@ static int emit(const curve_opts *c, const rp_gate_request *req, const rp_cli_ds
     if (c->csv_path != NULL) unlink(tmp);
     return rc;
   }
-  if (c->csv_path != NULL && rename(tmp, c->csv_path) != 0) {
-    const int e = errno;
-    unlink(tmp);
-    return rp_cli_fail(CMD, RP_EIO, "--csv: cannot rename '%s' to '%s': %s", tmp, c->csv_path,
-                       strerror(e));
-  }
+  if (c->csv_path != NULL && (rc = rp_cli_temp_commit(CMD, "csv", tmp, c->csv_path))) return rc;
   if (json) return rp_json_print(curve_json(c, req, base, x, res));
   if (c->csv_path == NULL) {
-    write_csv(stdout, c, req, x, res);
-    return fflush(stdout) == 0 ? 0 : RP_EXIT_COMPUTE;
+    write_csv(stdout, c, req, x, res); /* a failed write is caught in main() */
+    return 0;
   }
   char buf[32];
   printf("%s from %g to %g (%ld values%s) at", VARY[c->vary].column, c->from, c->to, c->steps,

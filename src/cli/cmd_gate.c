@@ -20,7 +20,8 @@ static const char gate_help[] =
     "  --method tmatrix|rayleigh --json --help\n"
     "  --table FILE.nc        use this scattering table (from `rainprint table`) for its\n"
     "                         one band; scattering options given too must agree with it\n"
-    "                         (e.g. rainprint gate --preset gentle-stratiform --table x.nc)\n"
+    "                         (e.g. with x_20c.nc from `rainprint table --help`'s example:\n"
+    "                         rainprint gate --preset gentle-stratiform --table x_20c.nc)\n"
     "\n"
     "Examples:\n"
     "  rainprint gate --preset maritime-downpour\n"
@@ -47,7 +48,7 @@ static int use_table(const char *path, int argc, char **argv, const struct optio
     return rp_cli_fail("gate", RP_ETABLE, "%s: %s", path, err.msg);
   req->n_bands = 1;
   req->freq_ghz[0] = s->cfg.freq_ghz;
-  req->band[0] = rp_band_of_frequency(s->cfg.freq_ghz);
+  req->band[0] = rp_cli_scatter_band(s); /* NULL (JSON null) for an explicit --frequency */
   req->table = *t;
   return 0;
 }

@@ -68,7 +68,7 @@ int rp_cmd_presets(int argc, char **argv) {
     if (json) {
       json_t *o = json_pack("{s:s, s:s, s:s, s:o, s:o}", "name", list[i].name, "description",
                             list[i].description, "source", list[i].source, "dsd",
-                            rp_gate_dsd_json(&b, &res.moments), "s_band",
+                            rp_gate_dsd_json(&req, &b, &res.moments), "s_band",
                             rp_gate_result_json(&req, 0, &res.r[0]));
       json_array_append_new(arr, o);
     } else {

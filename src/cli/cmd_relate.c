@@ -4,6 +4,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "cli/cli.h"
 #include "rainprint/plot.h"
@@ -56,7 +57,9 @@ static const char relate_help[] =
     "Examples:\n"
     "  rainprint relate --band X --ensemble 20000 --climate maritime --seed 7\n"
     "  rainprint relate --band S --relations \"R(KDP),AH(KDP)\" --json\n"
-    "  rainprint relate --band C --spectra site.csv --csv samples.csv --plot fits.png\n";
+    "  # in the source folder, with the tests' invented disdrometer record:\n"
+    "  rainprint relate --band C --spectra tests/data/relate/spectra_brackenford.csv \\\n"
+    "      --csv samples.csv --plot fits.png\n";
 
 enum {
   OPT_ENSEMBLE = 1200, OPT_CLIMATE, OPT_CLIMATE_FILE, OPT_SEED, OPT_SPECTRA, OPT_RELATIONS,
@@ -492,7 +495,7 @@ static json_t *build_json(const relate_args *a, const relate_state *st) {
   json_object_set_new(o, "source", json_string(a->spectra ? "spectra" : "ensemble"));
   if (a->spectra) {
     const rp_relate_quality_report *r = &st->rep;
-    json_object_set_new(o, "spectra_file", json_string(a->spectra));
+    json_object_set_new(o, "spectra_file", rp_json_text(a->spectra));
     json_object_set_new(o, "quality", json_pack("{s:o, s:o, s:o, s:I, s:I, s:I, s:I, s:I, s:I}",
         "max_diameter_mm", rp_json_real(a->q.max_diameter_mm),
         "min_nt_m3", rp_json_real(a->q.min_nt_m3),
@@ -503,7 +506,7 @@ static json_t *build_json(const relate_args *a, const relate_state *st) {
         (json_int_t)r->n_low_rain, "kept", (json_int_t)r->n_kept));
   } else {
     json_object_set_new(o, "climate", json_string(st->climate.name));
-    if (a->climate_file) json_object_set_new(o, "climate_file", json_string(a->climate_file));
+    if (a->climate_file) json_object_set_new(o, "climate_file", rp_json_text(a->climate_file));
     json_object_set_new(o, "members_direct", json_integer((json_int_t)st->n_direct));
   }
   json_object_set_new(o, "shape_model", json_string(shape_text(c)));
@@ -585,18 +588,36 @@ int rp_cmd_relate(int argc, char **argv) {
     if (rp_relate_parse_list(a.relations, &a.opt.relations, &err) != RP_OK)
       return rp_cli_fail("relate", err.status, "--relations: %s", err.msg);
   }
+  if (a.plot != NULL && rp_cli_check_plot_path("relate", a.plot)) return RP_EXIT_USAGE;
+  if (a.csv != NULL && a.csv[0] == '\0')
+    return rp_cli_fail("relate", RP_EINVAL, "--csv: empty file name");
 
+  /* The CSV and the picture are written whole or not at all, together: the CSV goes to
+   * a temporary file made before any work (a missing folder is reported at once) and is
+   * renamed into place only after the picture has been written. */
+  char csv_tmp[4096] = "";
+  if (a.csv != NULL) {
+    const int fd = rp_cli_temp_create("relate", "csv", a.csv, csv_tmp, sizeof csv_tmp);
+    if (fd < 0) return RP_EXIT_USAGE;
+    close(fd);
+  }
   relate_state st;
   memset(&st, 0, sizeof st);
   rc = compute(&a, &st);
   if (rc == 0 && a.csv != NULL) {
     rp_error err = {0};
-    if (rp_relate_samples_save_csv(a.csv, st.samples, st.n,
+    if (rp_relate_samples_save_csv(csv_tmp, st.samples, st.n,
                                    st.set ? (const char *const *)st.set->labels : NULL,
                                    &err) != RP_OK)
       rc = rp_cli_fail_err("relate", &err);
   }
   if (rc == 0 && a.plot != NULL) rc = write_plot(&a, &st);
+  if (a.csv != NULL) {
+    if (rc == 0)
+      rc = rp_cli_temp_commit("relate", "csv", csv_tmp, a.csv);
+    else
+      unlink(csv_tmp);
+  }
   if (rc == 0) {
     if (a.s.json)
       rc = rp_json_print(build_json(&a, &st));

@@ -77,7 +77,8 @@ int rp_cmd_table(int argc, char **argv) {
   if (st != RP_OK) return rp_cli_fail_err("table", &err);
   if (s.json) {
     const char *band = rp_cli_scatter_band(&s);
-    return rp_json_print(json_pack("{s:s, s:o, s:f, s:f, s:i, s:f, s:f}", "out", out, "band",
+    return rp_json_print(json_pack("{s:o, s:o, s:f, s:f, s:I, s:f, s:f}", "out",
+                                   rp_json_text(out), "band",
                                    band ? json_string(band) : json_null(), "frequency_ghz",
                                    s.cfg.freq_ghz, "temperature_c", s.cfg.temp_c, "diameters",
                                    (json_int_t)n, "dmin_mm", d0, "dmax_mm", d1));

@@ -67,16 +67,21 @@ int rp_gate_run(const char *cmd, const rp_gate_request *req, const rp_dsd *dsd,
     return rp_cli_fail_err(cmd, &err);
   if (rp_dsd_moments_eval(dsd, RP_FALL_DEFAULT, factor, &out->moments, &err) != RP_OK)
     return rp_cli_fail_err(cmd, &err);
-  /* Spectra are integrated over the whole table; analytic DSDs over their truncation. */
+  /* Spectra are integrated over the whole table (the user's own, or the default grid of
+   * shipped, cached and computed ones); analytic DSDs over their truncation. */
   const int spectrum = dsd->model == RP_DSD_SPECTRUM;
+  const rp_table *given = req->table;
   for (int b = 0; b < req->n_bands; b++) {
     rp_drop_config cfg = req->cfg;
     cfg.freq_ghz = req->freq_ghz[b];
-    const double dmin = spectrum ? RP_TABLE_DMIN_DEFAULT_MM : dsd->dmin_mm;
-    const double dmax = spectrum ? RP_TABLE_DMAX_DEFAULT_MM : dsd->dmax_mm;
-    if (req->table != NULL) { /* the user's table: a plan for this call only */
+    double dmin = dsd->dmin_mm, dmax = dsd->dmax_mm;
+    if (spectrum) {
+      dmin = given != NULL ? given->d_mm[0] : RP_TABLE_DMIN_DEFAULT_MM;
+      dmax = given != NULL ? given->d_mm[given->n - 1] : RP_TABLE_DMAX_DEFAULT_MM;
+    }
+    if (given != NULL) { /* the user's table: a plan for this call only */
       rp_gate_plan *plan = NULL;
-      if (rp_gate_plan_alloc(req->table, dmin, dmax, req->kw2, &plan, &err) != RP_OK)
+      if (rp_gate_plan_alloc(given, dmin, dmax, req->kw2, &plan, &err) != RP_OK)
         return rp_cli_fail_err(cmd, &err);
       const rp_status st = rp_gate_eval(plan, dsd, &out->r[b], &err);
       rp_gate_plan_free(plan);
@@ -157,10 +162,11 @@ void rp_gate_run_print(const rp_gate_request *req, const rp_cli_dsd_built *dsd,
   printf("\n");
 }
 
-json_t *rp_gate_dsd_json(const rp_cli_dsd_built *dsd, const rp_dsd_moments *m) {
+json_t *rp_gate_dsd_json(const rp_gate_request *req, const rp_cli_dsd_built *dsd,
+                         const rp_dsd_moments *m) {
   const rp_dsd *d = &dsd->dsd;
   json_t *o = json_object();
-  json_object_set_new(o, "label", json_string(dsd->label));
+  json_object_set_new(o, "label", rp_json_text(dsd->label));
   json_object_set_new(o, "model", json_string(rp_dsd_model_name(d->model)));
   if (d->model != RP_DSD_SPECTRUM) {
     json_object_set_new(o, "n0", rp_json_real(d->n0));
@@ -180,6 +186,9 @@ json_t *rp_gate_dsd_json(const rp_cli_dsd_built *dsd, const rp_dsd_moments *m) {
   json_object_set_new(o, "nw_m3_mm", rp_json_real(m->nw_m3_mm));
   json_object_set_new(o, "z_rayleigh_dbz", rp_json_real(m->z_rayleigh_dbz));
   json_object_set_new(o, "fall_speed_model", json_string(rp_fallspeed_name(RP_FALL_DEFAULT)));
+  /* --height: the rain rate's fall speeds were corrected to the air at this height */
+  json_object_set_new(o, "fall_speed_height_km",
+                      req->correct_fall_speed ? rp_json_real(req->height_km) : json_null());
   return o;
 }
 
@@ -217,5 +226,6 @@ json_t *rp_gate_run_json(const rp_gate_request *req, const rp_cli_dsd_built *dsd
     json_object_set_new(r, "table", json_string(rp_table_origin_name(res->origin[b])));
     json_array_append_new(results, r);
   }
-  return json_pack("{s:o, s:o}", "dsd", rp_gate_dsd_json(dsd, &res->moments), "results", results);
+  return json_pack("{s:o, s:o}", "dsd", rp_gate_dsd_json(req, dsd, &res->moments), "results",
+                   results);
 }

@@ -33,7 +33,8 @@ void rp_gate_run_print(const rp_gate_request *req, const rp_cli_dsd_built *dsd,
                        const rp_gate_run_result *res);
 json_t *rp_gate_run_json(const rp_gate_request *req, const rp_cli_dsd_built *dsd,
                          const rp_gate_run_result *res);
-json_t *rp_gate_dsd_json(const rp_cli_dsd_built *dsd, const rp_dsd_moments *m);
+json_t *rp_gate_dsd_json(const rp_gate_request *req, const rp_cli_dsd_built *dsd,
+                         const rp_dsd_moments *m);
 json_t *rp_gate_result_json(const rp_gate_request *req, int band, const rp_gate_result *r);
 /* Release the tables and plans kept between calls. */
 void rp_gate_run_cleanup(void);

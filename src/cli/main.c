@@ -1,5 +1,6 @@
 /* main.c — the rainprint tool: parse the command name, hand over, exit.
  * Exit codes: 0 success, 2 bad usage or input, 1 failure while computing. */
+#include <errno.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -34,6 +35,17 @@ static void usage(FILE *out) {
           "\nExample:\n  rainprint drop --diameter 3 --band S\n");
 }
 
+/* Output that did not reach its destination (a full disk, a closed pipe) turns a success
+ * into a failure: exit 1 with a message, never 0 with a silently cut result. */
+static int check_stdout(const char *cmd, int rc) {
+  errno = 0;
+  if (fflush(stdout) == 0 && !ferror(stdout)) return rc;
+  if (rc != RP_EXIT_OK) return rc;
+  fprintf(stderr, "rainprint %s: could not write the output%s%s\n", cmd, errno ? ": " : "",
+          errno ? strerror(errno) : "");
+  return RP_EXIT_COMPUTE;
+}
+
 int main(int argc, char **argv) {
   gsl_set_error_handler_off();
   if (argc < 2) {
@@ -53,7 +65,7 @@ int main(int argc, char **argv) {
     if (strcmp(argv[1], commands[i].name) == 0) {
       const int rc = commands[i].run(argc - 1, argv + 1);
       rp_gate_run_cleanup();
-      return rc;
+      return check_stdout(argv[1], rc);
     }
   }
   fprintf(stderr, "rainprint: unknown command '%s' (see rainprint --help)\n", argv[1]);

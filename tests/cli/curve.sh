@@ -84,6 +84,19 @@ zh = [x["zh_dbz"] for x in r["rows"]]
 assert zh[0] < zh[1] < zh[2], zh
 PY
 
+# an explicit --frequency: band null in JSON (as in every command), "9.4 GHz" in the CSV;
+# --height is recorded with the base DSD
+expect 0 "$rp" curve --preset gentle-stratiform --vary d0 --from 1 --to 2 --steps 2 --frequency 9.4 --height 2 --json
+check "explicit frequency in JSON" "$work/out" <<'PY'
+import json, sys
+r = json.load(open(sys.argv[1]))
+assert r["bands"] == [{"band": None, "frequency_ghz": 9.4}], r["bands"]
+assert all(x["band"] is None for x in r["rows"]) and len(r["rows"]) == 2
+assert r["base_dsd"]["fall_speed_height_km"] == 2, r["base_dsd"]
+PY
+expect 0 "$rp" curve --preset gentle-stratiform --vary d0 --from 1 --to 2 --steps 2 --frequency 9.4
+has "^1,9.4 GHz,9.4," out
+
 # JSON rows carry the CSV's columns with the same numbers
 expect 0 "$rp" curve --preset gentle-stratiform --vary d0 --from 0.5 --to 2.5 --steps 9 --json
 check "JSON rows = CSV rows" "$work/out" "$work/d0.csv" <<'PY'

@@ -41,6 +41,9 @@ expect 2 "$rp" drop --diameter -1
 expect 2 "$rp" drop --diameter 12
 expect 2 "$rp" drop --diameter nan
 expect 2 "$rp" drop --diameter 3mm
+expect 2 "$rp" drop --diameter 0x3   # the plain-decimal rule of the input files: no hex
+has "0x3" err
+expect 2 "$rp" drop --diameter 1e999
 expect 2 "$rp" drop --diameter 3 --band W
 grep -q "band" "$work/err" && ok || bad "band message"
 expect 2 "$rp" drop --diameter 3 --shape egg
@@ -55,11 +58,26 @@ expect 2 "$rp" drop --diameter 3 --no-such-option
 # table: written whole, loadable, refused when the folder does not exist
 expect 0 "$rp" table --band S --dmin 0.5 --dmax 3 --dstep 0.5 --out "$work/s.nc"
 [[ -s "$work/s.nc" ]] && ok || bad "table file missing"
+expect 0 "$rp" table --band S --dmin 0.5 --dmax 3 --dstep 0.5 --out "$work/s.nc" --json
+check "table --json" "$work/out" <<'PY'
+import json, sys
+r = json.load(open(sys.argv[1]))
+assert r["band"] == "S" and r["frequency_ghz"] == 2.8 and r["temperature_c"] == 10, r
+assert r["diameters"] == 6 and r["dmin_mm"] == 0.5 and r["dmax_mm"] == 3, r  # 0.5, 1.0, ..., 3.0
+assert r["out"].endswith("/s.nc"), r
+PY
 expect 2 "$rp" table --band S
 expect 2 "$rp" table --band S --out "$work/no-such-dir/s.nc"
 [[ ! -e "$work/no-such-dir" ]] && ok || bad "partial output"
 ls "$work" | grep -q tmp- && bad "temporary file left behind" || ok
 expect 2 "$rp" table --band S --dstep -1 --out "$work/t.nc"
 [[ ! -e "$work/t.nc" ]] && ok || bad "partial output after bad step"
+
+# output that cannot be written is a failure (exit 1, one line), never a silent success
+if [[ -w /dev/full ]]; then
+  expect 1 bash -c '"$0" drop --diameter 3 --band S > /dev/full' "$rp"
+  has "could not write" err
+  expect 1 bash -c '"$0" presets --json > /dev/full' "$rp"
+fi
 
 finish

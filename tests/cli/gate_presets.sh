@@ -48,15 +48,52 @@ cp "$work/out" "$work/h0.json"
 expect 0 "$rp" gate --preset gentle-stratiform --band S --height 3 --json
 check "rain rate corrected for height" "$work/h0.json" "$work/out" <<'PY'
 import json, sys
-r0 = json.load(open(sys.argv[1]))["dsd"]["rain_rate_mm_h"]
-r3 = json.load(open(sys.argv[2]))["dsd"]["rain_rate_mm_h"]
+d0, d3 = (json.load(open(p))["dsd"] for p in sys.argv[1:3])
+r0, r3 = d0["rain_rate_mm_h"], d3["rain_rate_mm_h"]
 assert 1.11 < r3 / r0 < 1.13, r3 / r0
+# the JSON says which air the fall speeds were corrected to (none: null)
+assert d0["fall_speed_height_km"] is None and d3["fall_speed_height_km"] == 3, (d0, d3)
 PY
 expect 2 "$rp" gate --preset gentle-stratiform --height 99
 has "height" err
 
+# a preset's own truncation (dmin_mm/dmax_mm in its file) is kept unless --dmin/--dmax
+# is given, so gate and presets compute the same rain
+mkdir -p "$work/trunc"
+printf 'name: cut-gamma\ndescription: "truncated"\nmodel: gamma\nparameters: {n0: 8000, mu: 2, lambda_per_mm: 2.5}\ndmin_mm: 0.2\ndmax_mm: 4\nsource: invented for the test\n' > "$work/trunc/cut-gamma.yaml"
+RAINPRINT_PRESETS="$work/trunc" expect 0 "$rp" presets --json
+cp "$work/out" "$work/trunc_presets.json"
+RAINPRINT_PRESETS="$work/trunc" expect 0 "$rp" gate --preset cut-gamma --band S --json
+cp "$work/out" "$work/trunc_gate.json"
+RAINPRINT_PRESETS="$work/trunc" expect 0 "$rp" gate --preset cut-gamma --band S --dmax 6 --json
+check "preset truncation kept" "$work/trunc_presets.json" "$work/trunc_gate.json" "$work/out" <<'PY'
+import json, sys
+p = json.load(open(sys.argv[1]))[0]
+g = json.load(open(sys.argv[2]))
+o = json.load(open(sys.argv[3]))
+assert (g["dsd"]["dmin_mm"], g["dsd"]["dmax_mm"]) == (0.2, 4.0), g["dsd"]
+# same rain, same table and plan: equal to the printed 10 digits
+for k in ["zh_dbz", "zdr_db", "kdp_deg_km"]:
+    assert abs(g["results"][0][k] - p["s_band"][k]) <= 1e-9 * abs(p["s_band"][k]), k
+assert (o["dsd"]["dmin_mm"], o["dsd"]["dmax_mm"]) == (0.2, 6.0), o["dsd"]  # --dmax wins
+PY
+
+# a spectrum label that is not UTF-8 still gives a "label" (bytes replaced by '?')
+{ grep '^bin_' "$src/tests/data/spectra/good.csv"; printf 'Z\xe9rich, 0, 1520, 2210, 1630, 980, 520, 260, 120, 40, 8.5, 1.2, 0\n'; } > "$work/latin1.csv"
+expect 0 "$rp" gate --spectrum "$work/latin1.csv" --band S --json
+check "label of a non-UTF-8 spectrum row" "$work/out" <<'PY'
+import json, sys
+assert json.load(open(sys.argv[1]))["dsd"]["label"].endswith("row 1 Z?rich")
+PY
+
 # bad input: exit 2 with one line naming the problem
 expect 2 "$rp" gate
+expect 2 "$rp" gate --preset gentle-stratiform --band S,
+has "S,C,X" err
+expect 2 "$rp" gate --spectrum "$src/tests/data/spectra/good.csv" --dmax 3
+has "own bins" err
+expect 2 "$rp" gate --preset gentle-stratiform --row 2
+has "spectrum" err
 expect 2 "$rp" gate --preset no-such-rain
 has "no-such-rain" err
 expect 2 "$rp" gate --dsd lognormal
@@ -88,6 +125,22 @@ expect 0 "$rp" gate --preset gentle-stratiform --table "$work/x20.nc" --json
 /usr/bin/python3 -c 'import json,sys; r=json.load(open(sys.argv[1]))["results"]; assert len(r) == 1 and r[0]["band"] == "X" and r[0]["table"] == "given" and r[0]["temperature_c"] == 20' "$work/out" && ok || bad "given table"
 expect 2 "$rp" gate --preset gentle-stratiform --table "$work/x20.nc" --temperature 10
 has "20 C, not 10 C" err
+# an explicit --frequency has no band letter in JSON, with a table too
+expect 0 "$rp" gate --preset gentle-stratiform --table "$work/x20.nc" --frequency 9.4 --json
+check "given table, explicit frequency: band null" "$work/out" <<'PY'
+import json, sys
+r = json.load(open(sys.argv[1]))["results"]
+assert r[0]["band"] is None and r[0]["frequency_ghz"] == 9.4, r[0]
+PY
+# a spectrum is integrated over the whole of the user's table, whatever its range
+# (good.csv has bins up to 4 mm; this table ends at 5 mm)
+expect 0 "$rp" table --band C --dmax 5 --out "$work/c5.nc"
+expect 0 "$rp" gate --spectrum "$src/tests/data/spectra/good.csv" --table "$work/c5.nc" --json
+check "spectrum with a shorter table" "$work/out" <<'PY'
+import json, sys
+r = json.load(open(sys.argv[1]))["results"]
+assert len(r) == 1 and r[0]["table"] == "given" and r[0]["zh_dbz"] > 0, r
+PY
 expect 2 "$rp" gate --preset gentle-stratiform --table "$work/missing.nc"
 has "missing.nc" err
 echo "not netCDF" > "$work/junk.nc"

@@ -127,10 +127,17 @@ expect 0 "$rp" relate --ensemble 300 --csv "$work/members.csv"
 [[ $(wc -l <"$work/members.csv") -eq 301 ]] && ok || bad "members.csv line count"
 has "rain_rate_mm_h" "$work/members.csv"
 
-# outputs whole or not at all
+# outputs whole or not at all, and together: a picture that cannot be written (bad name,
+# missing folder) or a failed fit leaves no CSV either; a bad picture name is refused
+# before any work
 expect 2 "$rp" relate --ensemble 300 --csv "$work/no-such-dir/m.csv"
 expect 2 "$rp" relate --ensemble 300 --plot "$work/no-such-dir/m.png"
 [[ ! -e "$work/no-such-dir" ]] && ok || bad "partial output"
+expect 2 "$rp" relate --ensemble 300 --csv "$work/alone1.csv" --plot "$work/fits.gif"
+has "png" "$work/err"
+expect 2 "$rp" relate --ensemble 300 --csv "$work/alone2.csv" --plot "$work/no-such-dir/m.png"
+expect 2 "$rp" relate --band X --min-kdp 100 --csv "$work/alone3.csv"
+[[ ! -e "$work/alone1.csv" && ! -e "$work/alone2.csv" && ! -e "$work/alone3.csv" ]] && ok || bad "CSV written by a failed run"
 ls "$work" | grep -q "\.tmp" && bad "temporary file left behind" || ok
 
 finish
