@@ -6,6 +6,8 @@
  * integral relies on and names the first problem. */
 #include "rainprint/table.h"
 
+#include "io/tempfile.h"
+
 #include <math.h>
 #include <netcdf.h>
 #include <stddef.h>
@@ -189,13 +191,17 @@ static int put_double(int ncid, const char *name, double value) {
 rp_status rp_table_save(const rp_table *t, const char *path, rp_error *err) {
   rp_status status = RP_OK;
   char tmp[4096];
-  if (snprintf(tmp, sizeof tmp, "%s.tmp-%ld", path, (long)getpid()) >= (int)sizeof tmp)
-    return rp_error_set(err, RP_EINVAL, "output path too long: %s", path);
+  int fd = -1;
+  /* a name of our own beside the output (O_EXCL), then netCDF writes over it */
+  RP_TRY(rp_tempfile_create("scattering table", path, tmp, sizeof tmp, &fd, err));
+  close(fd);
   int ncid = -1, dim, varids[N_VARS];
   int cs = nc_create(tmp, NC_NETCDF4 | NC_CLOBBER, &ncid);
-  if (cs != NC_NOERR)
+  if (cs != NC_NOERR) {
+    remove(tmp);
     return rp_error_set(err, RP_EIO, "%s: cannot create the output file (%s)", path,
                         nc_strerror(cs));
+  }
   NC_TRY(nc_def_dim(ncid, "diameter", t->n, &dim));
   for (size_t i = 0; i < N_VARS; i++) {
     NC_TRY(nc_def_var(ncid, table_vars[i].name, NC_DOUBLE, 1, &dim, &varids[i]));
@@ -231,10 +237,7 @@ rp_status rp_table_save(const rp_table *t, const char *path, rp_error *err) {
   for (size_t i = 0; i < N_VARS; i++) NC_TRY(nc_put_var_double(ncid, varids[i], member_c(t, i)));
   NC_TRY(nc_close(ncid));
   ncid = -1;
-  if (rename(tmp, path) != 0) {
-    status = rp_error_set(err, RP_EIO, "%s: could not rename the temporary file into place", path);
-    goto done;
-  }
+  return rp_tempfile_commit("scattering table", tmp, path, err); /* removes tmp on failure */
 done:
   if (ncid >= 0) nc_close(ncid);
   if (status != RP_OK) remove(tmp);
