@@ -4,6 +4,7 @@
 #include <string.h>
 
 #include "cli/cli.h"
+#include "rainprint/gate.h"
 #include "rainprint/presets.h"
 #include "rainprint/spectrum.h"
 
@@ -52,7 +53,7 @@ void rp_cli_dsd_init(rp_cli_dsd *o) {
   memset(o, 0, sizeof *o);
   o->dmin = NAN; /* not given: the preset's truncation, else the default */
   o->dmax = NAN;
-  o->kw2 = 0.93;
+  o->kw2 = RP_KW2_DEFAULT;
   o->height_km = NAN;
   o->row = 1;
 }

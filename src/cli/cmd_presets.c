@@ -49,7 +49,7 @@ int rp_cmd_presets(int argc, char **argv) {
   req.n_bands = 1;
   req.band[0] = "S";
   rp_band_frequency_ghz("S", &req.freq_ghz[0], NULL);
-  req.kw2 = 0.93;
+  req.kw2 = RP_KW2_DEFAULT;
 
   json_t *arr = json ? json_array() : NULL;
   if (!json)
