@@ -7,6 +7,7 @@
 #include <gsl/gsl_statistics_double.h>
 
 #include "rainprint/ensemble.h"
+#include "rainprint/climate_file.h"
 
 /* ---- helpers ------------------------------------------------------------------------ */
 

@@ -16,7 +16,9 @@
 #include <gsl/gsl_statistics_double.h>
 
 #include "rainprint/relate.h"
-#include "rainprint/table.h"
+#include "rainprint/samples_csv.h"
+#include "rainprint/spectrum.h"
+#include "rainprint/table_file.h"
 
 enum { S = 0, C = 1, X = 2, NB = 3 };
 static rp_table *tab[NB];
@@ -562,6 +564,18 @@ static rp_spectrum_set *fixture(const char *name) {
   return set;
 }
 
+/* rp_relate_spectra_eval over every row of a spectrum file */
+static rp_status spectra_eval(const rp_gate_plan *p, const rp_spectrum_set *set,
+                              const rp_relate_quality *q, rp_relate_sample *s,
+                              rp_relate_quality_report *rep, rp_error *e) {
+  rp_dsd *rows = calloc(set->n_rows, sizeof *rows);
+  assert_non_null(rows);
+  assert_int_equal(rp_spectrum_rows_dsd(set, rows, NULL), RP_OK);
+  const rp_status st = rp_relate_spectra_eval(p, rows, set->n_rows, q, s, rep, e);
+  free(rows);
+  return st;
+}
+
 static void test_relate_spectra_filters_and_samples(void **state) {
   (void)state;
   /* fixture invented for the test (tests/data/relate/make_spectra.py): 240 rows, of which
@@ -572,7 +586,7 @@ static void test_relate_spectra_filters_and_samples(void **state) {
   rp_relate_quality_default(&q);
   rp_relate_quality_report rep;
   rp_error e = {0};
-  assert_int_equal(rp_relate_spectra_eval(plan[X], set, &q, s, &rep, &e), RP_OK);
+  assert_int_equal(spectra_eval(plan[X], set, &q, s, &rep, &e), RP_OK);
   assert_int_equal(rep.n_rows, 240);
   assert_int_equal(rep.n_empty, 4);
   assert_int_equal(rep.n_large_drop, 3);
@@ -606,24 +620,24 @@ static void test_relate_spectra_filters_and_samples(void **state) {
   q.min_nt_m3 = 0.0;
   q.min_rain_rate_mm_h = 0.0;
   q.max_diameter_mm = 8.0;
-  assert_int_equal(rp_relate_spectra_eval(plan[X], set, &q, s, &rep, &e), RP_OK);
+  assert_int_equal(spectra_eval(plan[X], set, &q, s, &rep, &e), RP_OK);
   assert_int_equal(rep.n_kept, 240 - 4 - 3);
   /* bad filters */
   q.min_nt_m3 = NAN;
-  assert_int_equal(rp_relate_spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EINVAL);
+  assert_int_equal(spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EINVAL);
   q.min_nt_m3 = -1.0;
-  assert_int_equal(rp_relate_spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EINVAL);
+  assert_int_equal(spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EINVAL);
   rp_relate_quality_default(&q);
   q.max_diameter_mm = 9.0; /* beyond the table's 8 mm */
-  assert_int_equal(rp_relate_spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EDOM);
-  assert_int_equal(rp_relate_spectra_eval(plan[X], NULL, &q, s, &rep, &e), RP_EINVAL);
+  assert_int_equal(spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EDOM);
+  assert_int_equal(rp_relate_spectra_eval(plan[X], NULL, 1, &q, s, &rep, &e), RP_EINVAL);
   free(s);
   rp_spectrum_free(set);
   /* no valid row: RP_EINVAL with the counts, report filled */
   set = fixture("spectra_no_valid_rows.csv");
   s = calloc(set->n_rows, sizeof *s);
   rp_relate_quality_default(&q);
-  assert_int_equal(rp_relate_spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EINVAL);
+  assert_int_equal(spectra_eval(plan[X], set, &q, s, &rep, &e), RP_EINVAL);
   assert_non_null(strstr(e.msg, "no valid rows"));
   assert_int_equal(rep.n_kept, 0);
   assert_int_equal(rep.n_rows, 5);

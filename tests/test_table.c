@@ -6,6 +6,7 @@
 #include <unistd.h>
 
 #include "rainprint/table.h"
+#include "rainprint/table_file.h"
 
 static char tmpdir[256];
 

@@ -20,7 +20,7 @@
  * Parameters, sources and the reasoning behind each number: docs/method.md §9.
  *
  * Built-in climates (names are ours): "maritime", "continental", "mixed" (default).
- * Climates can also be read from YAML (format in rp_climate_load_yaml below; examples in
+ * Climates can also be read from YAML (climate_file.h; examples in
  * dsd-presets/climates/). */
 #ifndef RAINPRINT_ENSEMBLE_H
 #define RAINPRINT_ENSEMBLE_H
@@ -95,28 +95,6 @@ rp_status rp_climate_from_name(const char *name, rp_climate *c, rp_error *err);
  * Returns RP_OK or RP_EINVAL whose message names the cluster (0-based index and name),
  * field and value. */
 rp_status rp_climate_validate(const rp_climate *c, rp_error *err);
-
-/* Read a climate from a YAML file:
- *   name: island-showers           # 1..63 characters
- *   source: "..."                  # where the numbers come from (required, not kept)
- *   mu_model: gaussian             # optional: gaussian (default) | zhang2001
- *   clusters:                      # 1..4 entries
- *     - name: stratiform
- *       weight: 0.6
- *       log10_nw_mean: 3.4
- *       log10_nw_sd: 0.3
- *       d0_mean_mm: 1.4
- *       d0_sd_mm: 0.35
- *       corr_log10_nw_d0: -0.5
- *       mu_mean: 3                 # required with gaussian, optional with zhang2001
- *       mu_sd: 2
- * Numbers must be plain decimals (nan, inf, hex and trailing text such as "1.4mm" are
- * refused); unknown keys are errors; the result then passes rp_climate_validate.
- * Returns RP_OK; RP_EINVAL (NULL argument); RP_EIO (the file cannot be opened);
- * RP_EPARSE (syntax, schema or value error: the message starts with the path, gives
- * "line:column" where libcyaml or libyaml knows it, and names the field); RP_ENOMEM.
- * *c is unchanged on error. */
-rp_status rp_climate_load_yaml(const char *path, rp_climate *c, rp_error *err);
 
 /* Draw n members from climate c with GSL's mt19937 generator seeded with seed, into
  * out[0..n-1] (caller-allocated). Same (c, seed) -> bit-identical members; member i

@@ -38,7 +38,6 @@
 #include "rainprint/fallspeed.h"
 #include "rainprint/fit.h"
 #include "rainprint/gate.h"
-#include "rainprint/spectrum.h"
 #include "rainprint/status.h"
 
 #define RP_RELATE_CAUTION                                                                 \
@@ -153,8 +152,9 @@ typedef struct {
  * RP_RELATE_RAIN_MIN_DEFAULT. */
 void rp_relate_quality_default(rp_relate_quality *q);
 
-/* Samples of the rows of spectra set s that pass the filters q, in row order
- * (index = row, 0-based), into out (room for s->n_rows entries, caller-allocated);
+/* Samples of the measured spectra rows[0..n_rows-1] (spectrum DSDs, e.g. the rows of a
+ * spectrum file: spectrum.h) that pass the filters q, in row order (index = row,
+ * 0-based), into out (room for n_rows entries, caller-allocated);
  * *rep gets the counts. Moments by rp_dsd_moments_eval (RP_RELATE_FALL_MODEL, sea
  * level), radar variables by rp_gate_eval with plan (fast = 0).
  * Returns RP_OK; RP_EINVAL (NULL arguments; a filter value that is NaN or negative;
@@ -162,7 +162,7 @@ void rp_relate_quality_default(rp_relate_quality *q);
  * RP_EDOM (max_diameter_mm above the plan's dmax); or the status of the DSD and gate
  * functions for a row (message names the row). *rep is filled also on RP_EINVAL for
  * "no valid rows". */
-rp_status rp_relate_spectra_eval(const rp_gate_plan *plan, const rp_spectrum_set *s,
+rp_status rp_relate_spectra_eval(const rp_gate_plan *plan, const rp_dsd *rows, size_t n_rows,
                                  const rp_relate_quality *q, rp_relate_sample *out,
                                  rp_relate_quality_report *rep, rp_error *err);
 
@@ -209,20 +209,5 @@ int rp_relate_sample_values(rp_relate_id id, const rp_relate_sample *s,
  * RP_ENOMEM; or another status of fit.h with the relation's name prefixed. */
 rp_status rp_relate_fit_eval(const rp_relate_sample *s, size_t n, const rp_relate_options *o,
                              rp_relate_fit *out, size_t *n_out, rp_error *err);
-
-/* Write samples s[0..n-1] as CSV to path, whole or not at all (temporary file in the
- * same folder, then rename). Header line with units in the names:
- *   index,label,cluster,log10_nw_param,d0_param_mm,mu_param,nt_m3,lwc_g_m3,
- *   rain_rate_mm_h,dm_mm,d0_mm,nw_m3_mm,zh_mm6_m3,zh_dbz,zdr_db,kdp_deg_km,ah_db_km,
- *   adp_db_km,rhohv,held_out,path
- * label: labels[index] when labels != NULL (spectra row labels, borrowed; commas are not
- * allowed in them), else empty; held_out 1/0; path "fast" or "direct". Numbers with 10
- * significant digits; NaN written as an empty field.
- * The file gets the permissions of any new file under the umask.
- * Returns RP_OK; RP_EINVAL (NULL path or s with n > 0, a label with a comma or newline,
- * a path too long for the temporary name); RP_EIO (cannot create, write or rename;
- * nothing is left behind). */
-rp_status rp_relate_samples_save_csv(const char *path, const rp_relate_sample *s, size_t n,
-                                     const char *const *labels, rp_error *err);
 
 #endif

@@ -42,4 +42,9 @@ void rp_spectrum_free(rp_spectrum_set *s);
 rp_status rp_spectrum_row_dsd(const rp_spectrum_set *s, size_t row, rp_dsd *d,
                               rp_error *err);
 
+/* The DSDs of every row: rows (caller-allocated, s->n_rows entries) get
+ * rp_spectrum_row_dsd of each row (they borrow the set's arrays). Returns RP_OK or
+ * RP_EINVAL for NULL arguments. */
+rp_status rp_spectrum_rows_dsd(const rp_spectrum_set *s, rp_dsd *rows, rp_error *err);
+
 #endif

@@ -1,8 +1,7 @@
 /* table.h — scattering tables: per-diameter, canting-averaged scattering quantities
  * for one band/frequency, temperature, shape model, canting model and SD, elevation and
- * method; everything a DSD integral needs. Saved as netCDF-4 following the CF
- * conventions (one dimension `diameter`, units and long names on every variable, all
- * inputs and the program version as global attributes). */
+ * method; everything a DSD integral needs. Files (netCDF-4, CF conventions) are read and
+ * written by table_file.h. */
 #ifndef RAINPRINT_TABLE_H
 #define RAINPRINT_TABLE_H
 
@@ -19,6 +18,14 @@
 #define RP_TABLE_DMAX_DEFAULT_MM 8.0
 #define RP_TABLE_DSTEP_DEFAULT_MM 0.1
 
+/* One column of a table: its name in files (the member name without the unit suffix),
+ * units (UDUNITS spelling), long name, and whether physics forbids negative values. */
+typedef struct {
+  const char *name, *units, *long_name;
+  size_t offset; /* of the double * member in rp_table */
+  int non_negative;
+} rp_table_column;
+
 typedef struct {
   rp_drop_config cfg;        /* what the table was computed for */
   rp_fall_model fall_model;  /* model of fall_speed_m_s */
@@ -34,6 +41,14 @@ typedef struct {
   double *fwd_hh_re_mm, *fwd_hh_im_mm, *fwd_vv_re_mm, *fwd_vv_im_mm;
 } rp_table;
 
+/* The columns of a table, in file order (diameter first): rp_table_n_columns() of them;
+ * rp_table_column_get(i) is NULL past the end. rp_table_column_data(t, i) is the array
+ * of column i (t->n values), NULL for a NULL t or i past the end. */
+size_t rp_table_n_columns(void);
+const rp_table_column *rp_table_column_get(size_t i);
+double *rp_table_column_data(rp_table *t, size_t i);
+const double *rp_table_column_data_const(const rp_table *t, size_t i);
+
 /* Allocate a table of n diameters (arrays zeroed). NULL on out-of-memory. */
 rp_table *rp_table_alloc(size_t n);
 void rp_table_free(rp_table *t);   /* NULL ok */
@@ -46,17 +61,6 @@ void rp_table_free(rp_table *t);   /* NULL ok */
 rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
                          double dstep_mm, rp_table **out, rp_error *err);
 
-/* Write t to path as netCDF-4 (temporary file in the same folder, then rename: the file
- * appears whole or not at all). RP_ENETCDF / RP_EIO on failure, RP_EINVAL for a path
- * too long for the temporary name. */
-rp_status rp_table_save(const rp_table *t, const char *path, rp_error *err);
-
-/* Read and check a table: required variables and attributes present with the right
- * types, sizes and units, diameters strictly increasing in (0, 10] mm, every value
- * finite, second moments >= 0, config in range. Caller frees *out.
- * RP_EIO for a missing/unreadable file, RP_ETABLE for a malformed one, RP_ENOMEM. */
-rp_status rp_table_load(const char *path, rp_table **out, rp_error *err);
-
 /* RP_OK when t was computed for cfg (frequency, temperature, shape or fixed axis ratio,
  * canting model/SD/approximation, elevation, method, within 1e-6); otherwise
  * RP_ETABLE naming the first field that differs. */
@@ -67,14 +71,20 @@ typedef enum { RP_TABLE_SHIPPED, RP_TABLE_CACHED, RP_TABLE_COMPUTED, RP_TABLE_GI
 /* "shipped", "cache", "computed", "given" (a file the user named) */
 const char *rp_table_origin_name(rp_table_origin o);
 
-/* The table for cfg on the default diameter grid: a matching table among the *.nc files
- * of shipped_dir (may be NULL), else one in cache_dir (may be NULL), else computed now
- * and, when cache_dir is given, saved there (the folder is created; a cache that cannot
- * be written is not an error). Tables that fail to load or do not match are skipped.
- * Caller frees *out. Statuses as rp_table_build. */
-rp_status rp_table_obtain(const rp_drop_config *cfg, const char *shipped_dir,
-                          const char *cache_dir, rp_table **out, rp_table_origin *origin,
-                          rp_error *err);
+/* A source of tables for a configuration (the radar model asks one; the file store of
+ * table_file.h is one, computing on the spot is the default). fn returns a table for
+ * cfg on the default diameter grid (caller frees) and where it came from. fn may be
+ * called from several threads at once for different configurations. */
+typedef rp_status (*rp_table_source_fn)(void *ctx, const rp_drop_config *cfg, rp_table **out,
+                                        rp_table_origin *origin, rp_error *err);
+typedef struct {
+  rp_table_source_fn fn; /* NULL: rp_table_build on the default grid ("computed") */
+  void *ctx;
+} rp_table_source;
+
+/* A table for cfg from src (or computed when src is NULL or src->fn is NULL). */
+rp_status rp_table_source_get(const rp_table_source *src, const rp_drop_config *cfg,
+                              rp_table **out, rp_table_origin *origin, rp_error *err);
 
 /* Cache file name (no folder) for cfg, e.g.
  * "table_5.6000GHz_10.00C_thurai_planar7.00_el0.00_tmatrix.nc". */

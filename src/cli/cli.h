@@ -106,6 +106,7 @@ int rp_cli_check_plot_path(const char *cmd, const char *path);
 const char *rp_cli_tables_dir(void);
 const char *rp_cli_presets_dir(void);
 const char *rp_cli_cache_dir(void);
+const char *rp_cli_climates_dir(void);
 
 /* The DSD options shared by gate/curve: --preset NAME, --dsd MODEL with --n0, --lambda,
  * --mu, --nw, --d0, --dm, --rain-rate; --spectrum FILE.csv with --row N; --dmin, --dmax. */

@@ -2,20 +2,61 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include "cli/cli.h"
 #include "rainprint/gate.h"
 #include "rainprint/presets.h"
 #include "rainprint/spectrum.h"
 
+/* The data folder of the installation: <prefix>/share/rainprint beside the tool's own
+ * <prefix>/bin, or <build>/share/rainprint beside a tool in a build folder (CMake links
+ * the source data there). Found from /proc/self/exe once; NULL if neither exists. */
+static const char *data_root(void) {
+  static char root[4096]; /* tool layer only: one thread */
+  static int looked;
+  if (looked) return root[0] ? root : NULL;
+  looked = 1;
+  char exe[4096];
+  const ssize_t n = readlink("/proc/self/exe", exe, sizeof exe - 1);
+  if (n <= 0) return NULL;
+  exe[n] = '\0';
+  char *slash = strrchr(exe, '/');
+  if (slash == NULL) return NULL;
+  *slash = '\0';
+  const char *const rel[] = {"/../share/rainprint", "/share/rainprint"};
+  for (size_t i = 0; i < 2; i++) {
+    char cand[4096];
+    struct stat sb;
+    if (snprintf(cand, sizeof cand, "%s%s", exe, rel[i]) >= (int)sizeof cand) continue;
+    if (stat(cand, &sb) == 0 && S_ISDIR(sb.st_mode) && realpath(cand, root) != NULL) return root;
+  }
+  root[0] = '\0';
+  return NULL;
+}
+
+static const char *data_dir(const char *env, const char *sub, char *buf, size_t n) {
+  const char *e = getenv(env);
+  if (e && *e) return e;
+  const char *root = data_root();
+  if (root == NULL || snprintf(buf, n, "%s/%s", root, sub) >= (int)n) return NULL;
+  return buf;
+}
+
 const char *rp_cli_tables_dir(void) {
-  const char *e = getenv("RAINPRINT_TABLES");
-  return (e && *e) ? e : RP_SOURCE_DIR "/scattering";
+  static char buf[4096];
+  return data_dir("RAINPRINT_TABLES", "scattering", buf, sizeof buf);
 }
 
 const char *rp_cli_presets_dir(void) {
-  const char *e = getenv("RAINPRINT_PRESETS");
-  return (e && *e) ? e : RP_SOURCE_DIR "/dsd-presets";
+  static char buf[4096];
+  return data_dir("RAINPRINT_PRESETS", "dsd-presets", buf, sizeof buf);
+}
+
+const char *rp_cli_climates_dir(void) {
+  static char buf[4096];
+  return data_dir("RAINPRINT_CLIMATES", "dsd-presets/climates", buf, sizeof buf);
 }
 
 const char *rp_cli_cache_dir(void) {

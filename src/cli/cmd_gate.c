@@ -5,6 +5,7 @@
 
 #include "cli/cli.h"
 #include "cli/gate_run.h"
+#include "rainprint/table_file.h"
 
 static const char gate_help[] =
     "Usage: rainprint gate (--preset NAME | --dsd MODEL ... | --spectrum FILE.csv) [options]\n"

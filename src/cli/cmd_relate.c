@@ -11,6 +11,10 @@
 #include "rainprint/relate.h"
 #include "rainprint/shape.h"
 #include "rainprint/table.h"
+#include "rainprint/climate_file.h"
+#include "rainprint/samples_csv.h"
+#include "rainprint/spectrum.h"
+#include "rainprint/table_file.h"
 
 static const char relate_help[] =
     "Usage: rainprint relate [--ensemble SIZE --climate NAME --seed N | --spectra FILE.csv]\n"
@@ -89,6 +93,7 @@ typedef struct {
   rp_gate_fast *fast;
   rp_ensemble_member *members;
   rp_spectrum_set *set;
+  rp_dsd *rows;
   rp_relate_sample *samples;
   size_t n, n_direct;
   rp_relate_quality_report rep;
@@ -184,6 +189,7 @@ static void state_free(relate_state *st) {
   rp_gate_plan_free(st->plan);
   rp_table_free(st->table);
   rp_spectrum_free(st->set);
+  free(st->rows);
   free(st->members);
   free(st->samples);
 }
@@ -202,8 +208,13 @@ static int compute(const relate_args *a, relate_state *st) {
   if (a->spectra != NULL) {
     if (rp_spectrum_load(a->spectra, &st->set, &err) != RP_OK) return rp_cli_fail_err("relate", &err);
     st->samples = calloc(st->set->n_rows ? st->set->n_rows : 1, sizeof *st->samples);
-    if (st->samples == NULL) return rp_cli_fail("relate", RP_ENOMEM, "out of memory");
-    s = rp_relate_spectra_eval(st->plan, st->set, &a->q, st->samples, &st->rep, &err);
+    st->rows = calloc(st->set->n_rows ? st->set->n_rows : 1, sizeof *st->rows);
+    if (st->samples == NULL || st->rows == NULL)
+      return rp_cli_fail("relate", RP_ENOMEM, "out of memory");
+    s = rp_spectrum_rows_dsd(st->set, st->rows, &err);
+    if (s == RP_OK)
+      s = rp_relate_spectra_eval(st->plan, st->rows, st->set->n_rows, &a->q, st->samples,
+                                 &st->rep, &err);
     if (s != RP_OK) {
       rp_error_prefix(&err, "%s: ", a->spectra);
       return rp_cli_fail_err("relate", &err);

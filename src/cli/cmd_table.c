@@ -3,7 +3,7 @@
 #include <string.h>
 
 #include "cli/cli.h"
-#include "rainprint/table.h"
+#include "rainprint/table_file.h"
 
 static const char table_help[] =
     "Usage: rainprint table --out FILE.nc [options]\n"

@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "rainprint/shape.h"
+#include "rainprint/table_file.h"
 
 #define MAX_KEPT 64
 

@@ -7,6 +7,7 @@
 #include <gsl/gsl_errno.h>
 
 #include "cli/cli.h"
+#include "rainprint/version.h"
 #include "cli/gate_run.h"
 
 static const rp_cli_command commands[] = {

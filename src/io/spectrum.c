@@ -295,3 +295,10 @@ rp_status rp_spectrum_row_dsd(const rp_spectrum_set *s, size_t row, rp_dsd *d,
   return rp_dsd_spectrum(d, s->center_mm, s->width_mm, s->conc + row * s->n_bins,
                          s->n_bins, err);
 }
+
+rp_status rp_spectrum_rows_dsd(const rp_spectrum_set *s, rp_dsd *rows, rp_error *err) {
+  if (s == NULL || (rows == NULL && s->n_rows > 0))
+    return rp_error_set(err, RP_EINVAL, "spectrum rows: NULL set or output");
+  for (size_t r = 0; r < s->n_rows; r++) RP_TRY(rp_spectrum_row_dsd(s, r, &rows[r], err));
+  return RP_OK;
+}

@@ -22,18 +22,14 @@
  * allocates its O(n) scratch once per call. */
 #include "rainprint/relate.h"
 
-#include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <unistd.h>
 
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_sf_gamma.h>
-
-#include "io/tempfile.h"
 
 /* ---- relation table ---------------------------------------------------------------- */
 
@@ -265,10 +261,10 @@ void rp_relate_quality_default(rp_relate_quality *q) {
   q->min_rain_rate_mm_h = RP_RELATE_RAIN_MIN_DEFAULT;
 }
 
-rp_status rp_relate_spectra_eval(const rp_gate_plan *plan, const rp_spectrum_set *s,
+rp_status rp_relate_spectra_eval(const rp_gate_plan *plan, const rp_dsd *rows, size_t n_rows,
                                  const rp_relate_quality *q, rp_relate_sample *out,
                                  rp_relate_quality_report *rep, rp_error *err) {
-  if (plan == NULL || s == NULL || q == NULL || out == NULL || rep == NULL)
+  if (plan == NULL || (rows == NULL && n_rows > 0) || q == NULL || out == NULL || rep == NULL)
     return rp_error_set(err, RP_EINVAL, "relate: NULL plan, spectra, filters or output");
   if (!(q->max_diameter_mm > 0.0) || !(q->min_nt_m3 >= 0.0) || !(q->min_rain_rate_mm_h >= 0.0) ||
       !isfinite(q->min_nt_m3) || !isfinite(q->min_rain_rate_mm_h))
@@ -282,12 +278,15 @@ rp_status rp_relate_spectra_eval(const rp_gate_plan *plan, const rp_spectrum_set
                         "maximum diameter %g mm is beyond the scattering table, which ends at "
                         "%g mm", q->max_diameter_mm, table_max);
   memset(rep, 0, sizeof *rep);
-  rep->n_rows = s->n_rows;
-  for (size_t r = 0; r < s->n_rows; r++) {
-    const double *conc = s->conc + r * s->n_bins;
+  rep->n_rows = n_rows;
+  for (size_t r = 0; r < n_rows; r++) {
+    const rp_dsd d = rows[r];
+    if (d.model != RP_DSD_SPECTRUM || d.n_bins == 0 || d.bin_conc_m3_mm == NULL ||
+        d.bin_center_mm == NULL || d.bin_width_mm == NULL)
+      return rp_error_set(err, RP_EINVAL, "spectra row %zu: not a spectrum DSD with bins", r + 1);
     double top = 0.0; /* upper edge of the largest non-empty bin */
-    for (size_t b = 0; b < s->n_bins; b++)
-      if (conc[b] > 0.0) top = s->center_mm[b] + 0.5 * s->width_mm[b];
+    for (size_t b = 0; b < d.n_bins; b++)
+      if (d.bin_conc_m3_mm[b] > 0.0) top = d.bin_center_mm[b] + 0.5 * d.bin_width_mm[b];
     if (top == 0.0) {
       rep->n_empty++;
       continue;
@@ -296,11 +295,9 @@ rp_status rp_relate_spectra_eval(const rp_gate_plan *plan, const rp_spectrum_set
       rep->n_large_drop++;
       continue;
     }
-    rp_dsd d;
     rp_dsd_moments mo;
     rp_gate_result g;
-    rp_status st = rp_spectrum_row_dsd(s, r, &d, err);
-    if (st == RP_OK) st = rp_dsd_moments_eval(&d, RP_RELATE_FALL_MODEL, 1.0, &mo, err);
+    rp_status st = rp_dsd_moments_eval(&d, RP_RELATE_FALL_MODEL, 1.0, &mo, err);
     if (st != RP_OK) {
       rp_error_prefix(err, "spectra row %zu: ", r + 1);
       return st;
@@ -482,70 +479,4 @@ rp_status rp_relate_fit_eval(const rp_relate_sample *s, size_t n, const rp_relat
   memcpy(out, tmp, k * sizeof *out);
   *n_out = k;
   return RP_OK;
-}
-
-/* ---- CSV --------------------------------------------------------------------------- */
-
-static void put_num(FILE *f, double x) {
-  if (isfinite(x))
-    fprintf(f, ",%.10g", x);
-  else
-    fputs(",", f);
-}
-
-rp_status rp_relate_samples_save_csv(const char *path, const rp_relate_sample *s, size_t n,
-                                     const char *const *labels, rp_error *err) {
-  if (path == NULL || (s == NULL && n > 0))
-    return rp_error_set(err, RP_EINVAL, "relate CSV: NULL path or samples");
-  if (labels != NULL)
-    for (size_t i = 0; i < n; i++) {
-      const char *l = labels[s[i].index];
-      if (l != NULL && strpbrk(l, ",\n\r") != NULL)
-        return rp_error_set(err, RP_EINVAL, "relate CSV: label '%s' of sample %zu holds a comma "
-                            "or line break", l, i);
-    }
-  char tmp[4096];
-  int fd = -1;
-  RP_TRY(rp_tempfile_create("relate CSV", path, tmp, sizeof tmp, &fd, err));
-  FILE *f = fdopen(fd, "w");
-  if (f == NULL) {
-    const int e = errno;
-    close(fd);
-    unlink(tmp);
-    return rp_error_set(err, RP_EIO, "%s: cannot open the temporary file: %s", path,
-                        strerror(e));
-  }
-  fputs("index,label,cluster,log10_nw_param,d0_param_mm,mu_param,nt_m3,lwc_g_m3,"
-        "rain_rate_mm_h,dm_mm,d0_mm,nw_m3_mm,zh_mm6_m3,zh_dbz,zdr_db,kdp_deg_km,ah_db_km,"
-        "adp_db_km,rhohv,held_out,path\n", f);
-  for (size_t i = 0; i < n; i++) {
-    const rp_relate_sample *p = &s[i];
-    const char *l = labels ? labels[p->index] : NULL;
-    fprintf(f, "%zu,%s,", p->index, l ? l : "");
-    if (p->cluster >= 0) fprintf(f, "%ld", p->cluster);
-    put_num(f, p->log10_nw_param);
-    put_num(f, p->d0_param_mm);
-    put_num(f, p->mu_param);
-    put_num(f, p->nt_m3);
-    put_num(f, p->lwc_g_m3);
-    put_num(f, p->rain_rate_mm_h);
-    put_num(f, p->dm_mm);
-    put_num(f, p->d0_mm);
-    put_num(f, p->nw_m3_mm);
-    put_num(f, p->zh_mm6_m3);
-    put_num(f, p->zh_dbz);
-    put_num(f, p->zdr_db);
-    put_num(f, p->kdp_deg_km);
-    put_num(f, p->ah_db_km);
-    put_num(f, p->adp_db_km);
-    put_num(f, p->rhohv);
-    fprintf(f, ",%d,%s\n", rp_fit_is_held_out(p->index), p->fast ? "fast" : "direct");
-  }
-  const int bad_write = ferror(f);
-  const int bad_close = fclose(f);
-  if (bad_write || bad_close) {
-    unlink(tmp);
-    return rp_error_set(err, RP_EIO, "%s: writing failed", path);
-  }
-  return rp_tempfile_commit("relate CSV", tmp, path, err);
 }

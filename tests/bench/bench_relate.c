@@ -13,6 +13,7 @@
 
 #include "rainprint/relate.h"
 #include "rainprint/table.h"
+#include "rainprint/table_file.h"
 
 static double now_s(void) {
   struct timespec ts;

@@ -44,7 +44,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "tempfile.h"
+#include "io/tempfile.h"
 
 #define CMAP_N 256
 #define PATH_BUF 4096
