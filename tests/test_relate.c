@@ -523,7 +523,7 @@ static void test_relate_fit_statuses(void **state) {
   rp_error e = {0};
   /* too few samples above a threshold: the message names relation and threshold */
   o.kdp_min_deg_km = 1000.0;
-  assert_int_equal(rp_relate_fit_eval(s, n, &o, f, &nf, &e), RP_EINVAL);
+  assert_int_equal(rp_relate_fit_eval(s, n, &o, f, &nf, &e), RP_ESAMPLES);
   assert_non_null(strstr(e.msg, "R(KDP)"));
   assert_non_null(strstr(e.msg, "KDP >= 1000 deg/km"));
   rp_relate_options_default(&o);

@@ -86,6 +86,17 @@ typedef struct {
   int nmax;              /* T-matrix terms used (0 for other methods) */
 } rp_drop_result;
 
+/* Cross-sections of one drop from its canting-averaged moments (mm^2):
+ * sigma_pq = 4 pi <|f_pq(pi)|^2>, C_ext,p = 2 lambda Im <f_pp(0)>, single-drop ZDR
+ * 10 log10(sigma_hh / sigma_vv) (dB; NaN when sigma_vv = 0). */
+typedef struct {
+  double sigma_hh_mm2, sigma_vv_mm2, sigma_hv_mm2;
+  double ext_h_mm2, ext_v_mm2;
+  double zdr_db;
+} rp_drop_xsec;
+
+void rp_drop_cross_sections(const rp_drop_result *r, rp_drop_xsec *out);
+
 typedef struct rp_drop_ws rp_drop_ws;
 
 /* Workspace for one thread: the T-matrix workspace and the orientation quadrature

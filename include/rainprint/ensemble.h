@@ -14,9 +14,9 @@
  * RP_ENSEMBLE_MU_MAX], independent of D0 and Nw (RP_MU_GAUSSIAN), or from D0 through
  * the constrained mu-Lambda relation mu = -0.016 Lambda^2 + 1.213 Lambda - 1.957 of
  * Zhang et al. (2001) with Lambda D0 = 3.67 + mu, clipped to the same interval
- * (RP_MU_ZHANG2001). Every member consumes exactly four uniform deviates of GSL's
- * mt19937 generator seeded with the given seed, in member order, so the same seed
- * gives bit-identical ensembles and member i does not depend on n.
+ * (RP_MU_ZHANG2001). Every member consumes exactly four uniform deviates of its own
+ * random stream (seed, member index; rng.h), so the same seed gives bit-identical
+ * ensembles for any thread count and member i does not depend on n.
  * Parameters, sources and the reasoning behind each number: docs/method.md §9.
  *
  * Built-in climates (names are ours): "maritime", "continental", "mixed" (default).
@@ -96,9 +96,9 @@ rp_status rp_climate_from_name(const char *name, rp_climate *c, rp_error *err);
  * field and value. */
 rp_status rp_climate_validate(const rp_climate *c, rp_error *err);
 
-/* Draw n members from climate c with GSL's mt19937 generator seeded with seed, into
- * out[0..n-1] (caller-allocated). Same (c, seed) -> bit-identical members; member i
- * does not depend on n. Note GSL's rule: seed 0 means mt19937's default seed 4357.
+/* Draw n members from climate c into out[0..n-1] (caller-allocated): member i from the
+ * random stream (seed, RP_RNG_ENSEMBLE, i) of rng.h, in parallel (OpenMP). Same (c, seed)
+ * -> bit-identical members for any thread count; member i does not depend on n.
  * Allocates only the generator (freed before returning).
  * Returns RP_OK; RP_EINVAL for NULL c/out, n = 0, or a climate rp_climate_validate
  * refuses (its message); RP_ENOMEM. */

@@ -38,6 +38,7 @@
 #include "rainprint/fallspeed.h"
 #include "rainprint/fit.h"
 #include "rainprint/gate.h"
+#include "rainprint/radar_model.h"
 #include "rainprint/status.h"
 
 #define RP_RELATE_CAUTION                                                                 \
@@ -202,12 +203,55 @@ int rp_relate_sample_values(rp_relate_id id, const rp_relate_sample *s,
  * out[0..*n_out-1] (room for RP_REL_COUNT, caller-allocated). Allocates O(n) scratch
  * (freed before returning).
  * Returns RP_OK; RP_EINVAL (NULL arguments, a threshold that is NaN, an empty
- * selection, fewer than RP_FIT_MIN_POINTS fit samples or RP_RELATE_MIN_HELD held-out
- * samples passing a relation's thresholds: the message names the relation, the
- * thresholds and the counts); RP_EDOM (skill undefined: held-out truth or estimate
+ * selection); RP_ESAMPLES (fewer than RP_FIT_MIN_POINTS fit samples or
+ * RP_RELATE_MIN_HELD held-out samples pass a relation's thresholds: the message names the
+ * relation, the thresholds and the counts); RP_EDOM (skill undefined: held-out truth or estimate
  * without spread); RP_ENOCONV (nonlinear refinement did not converge); RP_EGSL;
  * RP_ENOMEM; or another status of fit.h with the relation's name prefixed. */
 rp_status rp_relate_fit_eval(const rp_relate_sample *s, size_t n, const rp_relate_options *o,
                              rp_relate_fit *out, size_t *n_out, rp_error *err);
+
+/* ---- the whole pipeline: DSDs -> samples -> fits -> skill, one call ------------------ */
+
+typedef enum { RP_RELATE_FROM_ENSEMBLE, RP_RELATE_FROM_SPECTRA } rp_relate_source;
+
+typedef struct {
+  rp_relate_source source;
+  /* ensemble: n_members drawn from climate with seed (rp_ensemble_draw) */
+  const rp_climate *climate;  /* borrowed */
+  size_t n_members;
+  unsigned long seed;
+  /* spectra: rows (spectrum DSDs, borrowed) filtered by quality */
+  const rp_dsd *rows;
+  size_t n_rows;
+  rp_relate_quality quality;
+  /* thresholds and the relations to fit */
+  rp_relate_options options;
+} rp_relate_request;
+
+/* An ensemble of RP_ENSEMBLE_SIZE_DEFAULT members, seed 1, no climate (set one), the
+ * default quality filters and options. */
+void rp_relate_request_default(rp_relate_request *r);
+
+typedef struct {
+  rp_ensemble_member *members;   /* ensemble members (NULL for spectra) */
+  rp_relate_sample *samples;     /* n_samples of them */
+  size_t n_samples, n_direct;    /* n_direct: members integrated directly, not by the fast path */
+  rp_relate_quality_report report; /* spectra: rows removed by each filter */
+  rp_relate_fit fits[RP_REL_COUNT];
+  size_t n_fits;
+  rp_table_origin origin;        /* where the band's table came from */
+} rp_relate_result;
+
+/* Fit the relations of request req at band b of model (its temperature, elevation and
+ * |K_w|^2): samples of the ensemble members or of the spectra rows (rp_relate_ensemble_eval
+ * with the model's fast path, or rp_relate_spectra_eval), then rp_relate_fit_eval. Caller
+ * frees *out with rp_relate_result_free.
+ * Statuses: those of the model, the draw and the sample and fit functions; in particular
+ * RP_ESAMPLES when too few samples pass a relation's thresholds (an input error: lower the
+ * thresholds or give more samples) and RP_EINVAL for "no valid rows" among spectra. */
+rp_status rp_relate_run(rp_radar_model *model, int band, const rp_relate_request *req,
+                        rp_relate_result **out, rp_error *err);
+void rp_relate_result_free(rp_relate_result *r); /* NULL ok */
 
 #endif

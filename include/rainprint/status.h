@@ -18,6 +18,7 @@
   X(EPARSE, "could not parse input", 1)                               \
   X(EIO, "input/output error", 1)                                     \
   X(ETABLE, "malformed or mismatched scattering table", 1)            \
+  X(ESAMPLES, "too few samples pass the thresholds", 1)               \
   X(ENOMEM, "out of memory", 0)                                       \
   X(ENOCONV, "numerical method did not converge", 0)                  \
   X(ENETCDF, "netCDF error", 0)                                       \

@@ -16,10 +16,14 @@
  *   L D0 = 3.67 + mu (Ulbrich's approximation used by the D0 form), solved exactly as a
  *   quadratic in L, then clipped to [-1, 12]; u4 is drawn and discarded so that both mu
  *   models give the same (D0, Nw) for the same seed.
- * Generator: GSL mt19937, seeded once; four deviates per member in member order.
+ * Generator: member i draws its four uniform deviates from its own stream (seed, i) of
+ * rng.h, so members are drawn in parallel and the ensemble does not depend on the thread
+ * count.
  *
  * Climates read from YAML files: src/io/climate_file.c. */
 #include "rainprint/ensemble.h"
+
+#include "rainprint/rng.h"
 
 #include <math.h>
 #include <stdbool.h>
@@ -28,7 +32,6 @@
 #include <string.h>
 
 #include <gsl/gsl_cdf.h>
-#include <gsl/gsl_rng.h>
 
 /* ---- built-in climates ------------------------------------------------------------- */
 
@@ -178,16 +181,33 @@ double rp_ensemble_mu_zhang2001(double d0_mm) {
   return lambda * d0_mm - 3.67;
 }
 
+/* Member i from its own four uniform deviates u[0..3] (see the file header). */
+static rp_ensemble_member draw_member(const rp_climate *c, const double cum[], const double u[4]) {
+  size_t k = 0;
+  while (k + 1 < c->n_clusters && u[0] >= cum[k]) k++;
+  const rp_climate_cluster *q = &c->clusters[k];
+  const double d0 = truncated_normal(u[1], q->d0_mean_mm, q->d0_sd_mm, RP_ENSEMBLE_D0_MIN_MM,
+                                     RP_ENSEMBLE_D0_MAX_MM);
+  const double rho = q->corr_log10_nw_d0;
+  const double m_n = q->log10_nw_mean + rho * q->log10_nw_sd * (d0 - q->d0_mean_mm) / q->d0_sd_mm;
+  const double s_n = q->log10_nw_sd * sqrt(1.0 - rho * rho);
+  const double lnw = truncated_normal(u[2], m_n, s_n, RP_ENSEMBLE_LOG10_NW_MIN,
+                                      RP_ENSEMBLE_LOG10_NW_MAX);
+  double mu;
+  if (c->mu_model == RP_MU_ZHANG2001)
+    mu = fmin(fmax(rp_ensemble_mu_zhang2001(d0), RP_ENSEMBLE_MU_MIN), RP_ENSEMBLE_MU_MAX);
+  else
+    mu = truncated_normal(u[3], q->mu_mean, q->mu_sd, RP_ENSEMBLE_MU_MIN, RP_ENSEMBLE_MU_MAX);
+  rp_ensemble_member m = {lnw, d0, mu, k};
+  return m;
+}
+
 rp_status rp_ensemble_draw(const rp_climate *c, size_t n, unsigned long seed,
                            rp_ensemble_member *out, rp_error *err) {
   if (c == NULL || out == NULL)
     return rp_error_set(err, RP_EINVAL, "ensemble: climate or output is NULL");
   if (n == 0) return rp_error_set(err, RP_EINVAL, "ensemble size 0: need at least 1 member");
   RP_TRY(rp_climate_validate(c, err));
-  gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
-  if (rng == NULL) return rp_error_set(err, RP_ENOMEM, "ensemble: cannot allocate the generator");
-  gsl_rng_set(rng, seed);
-
   double cum[RP_CLIMATE_MAX_CLUSTERS], wsum = 0.0;
   for (size_t k = 0; k < c->n_clusters; k++) wsum += c->clusters[k].weight;
   double acc = 0.0;
@@ -195,31 +215,16 @@ rp_status rp_ensemble_draw(const rp_climate *c, size_t n, unsigned long seed,
     acc += c->clusters[k].weight;
     cum[k] = acc / wsum;
   }
+  /* Each member draws from its own stream (seed, member index): the ensemble is the same
+   * for any thread count and schedule. */
+#pragma omp parallel for schedule(static)
   for (size_t i = 0; i < n; i++) {
-    double u1 = gsl_rng_uniform_pos(rng), u2 = gsl_rng_uniform_pos(rng);
-    double u3 = gsl_rng_uniform_pos(rng), u4 = gsl_rng_uniform_pos(rng);
-    size_t k = 0;
-    while (k + 1 < c->n_clusters && u1 >= cum[k]) k++;
-    const rp_climate_cluster *q = &c->clusters[k];
-    double d0 = truncated_normal(u2, q->d0_mean_mm, q->d0_sd_mm, RP_ENSEMBLE_D0_MIN_MM,
-                                 RP_ENSEMBLE_D0_MAX_MM);
-    double rho = q->corr_log10_nw_d0;
-    double m_n = q->log10_nw_mean + rho * q->log10_nw_sd * (d0 - q->d0_mean_mm) / q->d0_sd_mm;
-    double s_n = q->log10_nw_sd * sqrt(1.0 - rho * rho);
-    double lnw = truncated_normal(u3, m_n, s_n, RP_ENSEMBLE_LOG10_NW_MIN,
-                                  RP_ENSEMBLE_LOG10_NW_MAX);
-    double mu;
-    if (c->mu_model == RP_MU_ZHANG2001) {
-      mu = fmin(fmax(rp_ensemble_mu_zhang2001(d0), RP_ENSEMBLE_MU_MIN), RP_ENSEMBLE_MU_MAX);
-    } else {
-      mu = truncated_normal(u4, q->mu_mean, q->mu_sd, RP_ENSEMBLE_MU_MIN, RP_ENSEMBLE_MU_MAX);
-    }
-    out[i].log10_nw = lnw;
-    out[i].d0_mm = d0;
-    out[i].mu = mu;
-    out[i].cluster = k;
+    rp_rng r;
+    rp_rng_init(&r, seed, rp_rng_key(RP_RNG_ENSEMBLE, i, 0, 0));
+    double u[4];
+    for (int j = 0; j < 4; j++) u[j] = rp_rng_uniform_pos(&r);
+    out[i] = draw_member(c, cum, u);
   }
-  gsl_rng_free(rng);
   return RP_OK;
 }
 

@@ -239,14 +239,30 @@ rp_status rp_relate_ensemble_eval(const rp_gate_plan *plan, const rp_gate_fast *
     return rp_error_set(err, RP_EINVAL,
                         "ensemble of %zu members is too small: at least %d are needed (3 in 4 "
                         "are fitted, 1 in 4 scores the fit)", n, RP_RELATE_MIN_MEMBERS);
-  size_t direct = 0;
+  /* Members are independent: evaluated in parallel; the first failing member (lowest
+   * index) is reported, whatever the schedule. */
+  size_t direct = 0, first_bad = n;
+  rp_status bad = RP_OK;
+  rp_error bad_err = {0};
+#pragma omp parallel for schedule(static) reduction(+ : direct)
   for (size_t i = 0; i < n; i++) {
-    rp_status st = member_sample(plan, fast, &m[i], i, &out[i], err);
+    rp_error local = {0};
+    const rp_status st = member_sample(plan, fast, &m[i], i, &out[i], &local);
     if (st != RP_OK) {
-      rp_error_prefix(err, "ensemble member %zu: ", i);
-      return st;
+#pragma omp critical(rp_relate_member_error)
+      if (i < first_bad) {
+        first_bad = i;
+        bad = st;
+        bad_err = local;
+      }
+      continue;
     }
     direct += out[i].fast ? 0 : 1;
+  }
+  if (bad != RP_OK) {
+    if (err != NULL) *err = bad_err;
+    rp_error_prefix(err, "ensemble member %zu: ", first_bad);
+    return bad;
   }
   if (n_direct) *n_direct = direct;
   return RP_OK;
@@ -419,7 +435,7 @@ static rp_status fit_one(rp_relate_id id, const rp_relate_sample *s, size_t n,
   if (nf < RP_FIT_MIN_POINTS || nh < RP_RELATE_MIN_HELD) {
     char th[128];
     threshold_text(id, o, th, sizeof th);
-    return rp_error_set(err, RP_EINVAL,
+    return rp_error_set(err, RP_ESAMPLES,
                         "%s: too few samples above the thresholds (%s): %zu to fit and %zu "
                         "held out of %zu; at least %d and %d are needed",
                         INFO[id].name, th, nf, nh, n, RP_FIT_MIN_POINTS, RP_RELATE_MIN_HELD);
@@ -479,4 +495,79 @@ rp_status rp_relate_fit_eval(const rp_relate_sample *s, size_t n, const rp_relat
   memcpy(out, tmp, k * sizeof *out);
   *n_out = k;
   return RP_OK;
+}
+
+/* ---- the whole pipeline ------------------------------------------------------------ */
+
+void rp_relate_request_default(rp_relate_request *r) {
+  memset(r, 0, sizeof *r);
+  r->source = RP_RELATE_FROM_ENSEMBLE;
+  r->n_members = RP_ENSEMBLE_SIZE_DEFAULT;
+  r->seed = 1;
+  rp_relate_quality_default(&r->quality);
+  rp_relate_options_default(&r->options);
+}
+
+void rp_relate_result_free(rp_relate_result *r) {
+  if (r == NULL) return;
+  free(r->members);
+  free(r->samples);
+  free(r);
+}
+
+rp_status rp_relate_run(rp_radar_model *model, int band, const rp_relate_request *req,
+                        rp_relate_result **out, rp_error *err) {
+  if (model == NULL || req == NULL || out == NULL)
+    return rp_error_set(err, RP_EINVAL, "relate: NULL model, request or output");
+  *out = NULL;
+  const rp_radar_config *mc = rp_radar_model_config(model);
+  rp_radar_entry en;
+  RP_TRY(rp_radar_model_entry(model, band, mc->scatter.temp_c, mc->scatter.elevation_deg, &en,
+                              err));
+  rp_relate_result *r = calloc(1, sizeof *r);
+  if (r == NULL) return rp_error_set(err, RP_ENOMEM, "relate: out of memory");
+  r->origin = en.origin;
+  rp_status st = RP_OK;
+  if (req->source == RP_RELATE_FROM_SPECTRA) {
+    r->samples = calloc(req->n_rows ? req->n_rows : 1, sizeof *r->samples);
+    if (r->samples == NULL) {
+      st = rp_error_set(err, RP_ENOMEM, "relate: out of memory for %zu samples", req->n_rows);
+      goto fail;
+    }
+    st = rp_relate_spectra_eval(en.plan, req->rows, req->n_rows, &req->quality, r->samples,
+                                &r->report, err);
+    r->n_samples = r->report.n_kept;
+  } else if (req->source == RP_RELATE_FROM_ENSEMBLE) {
+    if (req->climate == NULL) {
+      st = rp_error_set(err, RP_EINVAL, "relate: no climate for the ensemble");
+      goto fail;
+    }
+    if (req->n_members < RP_RELATE_MIN_MEMBERS) {
+      st = rp_error_set(err, RP_EINVAL, "ensemble of %zu members is too small: at least %d are "
+                        "needed (3 in 4 are fitted, 1 in 4 scores the fit)", req->n_members,
+                        RP_RELATE_MIN_MEMBERS);
+      goto fail;
+    }
+    r->members = calloc(req->n_members, sizeof *r->members);
+    r->samples = calloc(req->n_members, sizeof *r->samples);
+    if (r->members == NULL || r->samples == NULL) {
+      st = rp_error_set(err, RP_ENOMEM, "relate: out of memory for %zu members", req->n_members);
+      goto fail;
+    }
+    st = rp_ensemble_draw(req->climate, req->n_members, req->seed, r->members, err);
+    if (st == RP_OK)
+      st = rp_relate_ensemble_eval(en.plan, en.fast, r->members, req->n_members, r->samples,
+                                   &r->n_direct, err);
+    r->n_samples = req->n_members;
+  } else {
+    st = rp_error_set(err, RP_EINVAL, "relate: unknown sample source %d", (int)req->source);
+  }
+  if (st == RP_OK)
+    st = rp_relate_fit_eval(r->samples, r->n_samples, &req->options, r->fits, &r->n_fits, err);
+  if (st != RP_OK) goto fail;
+  *out = r;
+  return RP_OK;
+fail:
+  rp_relate_result_free(r);
+  return st;
 }

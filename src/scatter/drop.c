@@ -399,3 +399,13 @@ rp_status rp_drop_eval(rp_drop_ws *ws, double d_mm, rp_drop_result *out, rp_erro
       return rp_error_set(err, RP_EINVAL, "unknown method %d", (int)c->method);
   }
 }
+
+void rp_drop_cross_sections(const rp_drop_result *r, rp_drop_xsec *out) {
+  out->sigma_hh_mm2 = 4.0 * M_PI * r->avg.back_hh2_mm2;
+  out->sigma_vv_mm2 = 4.0 * M_PI * r->avg.back_vv2_mm2;
+  out->sigma_hv_mm2 = 4.0 * M_PI * r->avg.back_hv2_mm2;
+  out->ext_h_mm2 = 2.0 * r->wavelength_mm * cimag(r->avg.fwd_hh_mm);
+  out->ext_v_mm2 = 2.0 * r->wavelength_mm * cimag(r->avg.fwd_vv_mm);
+  out->zdr_db = out->sigma_vv_mm2 > 0.0 ? 10.0 * log10(out->sigma_hh_mm2 / out->sigma_vv_mm2)
+                                        : (double)NAN;
+}
