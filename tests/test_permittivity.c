@@ -20,8 +20,8 @@ static double complex eps_at(double f_ghz, double t_c) {
   return e;
 }
 
-/* The model's own value at 10 GHz, 20 C, worked by hand from the formulas of Liebe,
- * Hufford & Manabe (1991) (physics notes §2), carried to 6 significant figures:
+/* The model's own value at 10 GHz, 20 C, worked by hand from the formulas of ITU-R P.840
+ * (= Liebe et al. 1993; docs/method.md §5), carried to 6 significant figures:
  *   T = 293.15 K, theta = 300/293.15 = 1.023367, theta - 1 = 0.023367
  *   eps0 = 77.66 + 103.3 * 0.023367 = 77.66 + 2.41380 = 80.0738
  *   eps1 = 0.0671 * 80.0738 = 5.37295,  eps2 = 3.52
@@ -217,9 +217,24 @@ static void test_water_permittivity_rejects_nan_inf_null_as_einval(void **state)
   assert_int_equal(rp_water_permittivity(5.6, 10.0, NULL, NULL), RP_EINVAL);
 }
 
+/* Published values at S band, 10 C, 2.8 GHz: ITU-R P.840's model gives 80.15 + 16.53i
+ * (checked against the Recommendation's equations, recomputed); Ray's (1972, Appl. Opt.
+ * 11, 1836-1844) independent parameter fit gives 80.21 + 17.16i. Tolerances: 0.01 absolute
+ * against P.840 (the same equations, four figures); 0.1 % on eps' and 5 % on eps'' against
+ * Ray (a different fit to partly different measurements). */
+static void test_water_permittivity_matches_published_s_band_values(void **state) {
+  (void)state;
+  const double complex e = eps_at(2.8, 10.0);
+  assert_close(creal(e), 80.15, 0.0, 0.01);
+  assert_close(cimag(e), 16.53, 0.0, 0.01);
+  assert_close(creal(e), 80.21, 1e-3, 0.0);
+  assert_close(cimag(e), 17.16, 0.05, 0.0);
+}
+
 int main(void) {
   rp_test_init();
   const struct CMUnitTest tests[] = {
+      cmocka_unit_test(test_water_permittivity_matches_published_s_band_values),
       cmocka_unit_test(test_water_permittivity_matches_hand_computed_value),
       cmocka_unit_test(test_water_permittivity_equals_complex_debye_form),
       cmocka_unit_test(test_water_static_limit_matches_measured_values),

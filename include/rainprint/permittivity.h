@@ -1,8 +1,9 @@
 /* permittivity.h — complex relative permittivity of liquid water and the quantities
  * derived from it (refractive index, dielectric factor |K|^2).
  *
- * Model: the double-Debye fit of Liebe, Hufford & Manabe (1991, Int. J. Infrared
- * Millimeter Waves 12, 659-675), the form also used by ITU-R P.840. Equations and
+ * Model: the double-Debye form of Liebe, Hufford & Manabe (1991, Int. J. Infrared
+ * Millimeter Waves 12, 659-675) with the constants of ITU-R P.840 (= Liebe et al. 1993;
+ * checked against the Recommendation's text). Equations and
  * constants: the physics method notes in docs/ (water permittivity section).
  *
  * Convention (time dependence exp(-i omega t), Bohren & Huffman 1983):

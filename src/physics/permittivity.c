@@ -1,9 +1,10 @@
 /* permittivity.c — complex permittivity of liquid water, double-Debye model.
  *
- * Method: Liebe, Hufford & Manabe (1991), "A model for the complex permittivity of
- * water at frequencies below 1 THz", Int. J. Infrared Millimeter Waves 12, 659-675;
- * ITU-R P.840 uses the same double-Debye form (with slightly re-fitted constants, from
- * memory; check the Recommendation). We keep Liebe et al.'s constants:
+ * Method: the double-Debye model of Liebe, Hufford & Manabe (1991, "A model for the
+ * complex permittivity of water at frequencies below 1 THz", Int. J. Infrared Millimeter
+ * Waves 12, 659-675) with the constants of ITU-R P.840 (eqs. 6-11 of P.840-6), which are
+ * those of Liebe et al. (1993); checked against the Recommendation's text. (Liebe et al.
+ * 1991 differ slightly: eps2 = 3.52 + 7.52 (1 - 300/T) and 146.4 for 146.)
  *
  *   theta = 300 / T            (T in kelvin)
  *   eps0  = 77.66 + 103.3 (theta - 1)       static permittivity
