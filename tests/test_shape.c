@@ -1,9 +1,9 @@
 /* test_shape.c — raindrop axis-ratio models.
  *
- * The coefficients in src/physics/shape.c were written from memory; the hand-computed
- * points below test that the code evaluates the formulas as written (they do not
- * validate the coefficients). The physically anchored checks use properties common to
- * all published fits. */
+ * The coefficients in src/physics/shape.c were checked against published compilations
+ * (Andsager et al. 1999 excepted: from memory); the hand-computed points below test
+ * that the code evaluates the formulas as written. The physically anchored checks use
+ * properties common to all published fits. */
 #include "rp_test.h"
 
 #include <string.h>
@@ -23,10 +23,16 @@ static double ratio(rp_shape_model m, double d_mm) {
 
 static void test_shape_names_round_trip(void **state) {
   (void)state;
-  const char *expect[RP_SHAPE_COUNT] = {"sphere", "pruppacher-beard", "beard-chuang",
-                                        "andsager", "brandes", "thurai"};
+  const char *expect[RP_SHAPE_COUNT] = {
+      "sphere",       "pruppacher-beard-1970", "beard-chuang-1987",          "andsager-1999",
+      "brandes-2002", "thurai-2007",           "pruppacher-beard-1970-linear"};
+  size_t n = 0;
+  const char *const *names = rp_shape_names(&n);
+  assert_int_equal(n, RP_SHAPE_COUNT);
+  assert_ptr_equal(rp_shape_names(NULL), names);
   for (int i = 0; i < RP_SHAPE_COUNT; i++) {
     assert_string_equal(rp_shape_name((rp_shape_model)i), expect[i]);
+    assert_string_equal(names[i], expect[i]);
     rp_shape_model m = RP_SHAPE_COUNT;
     assert_int_equal(rp_shape_from_name(expect[i], &m, NULL), RP_OK);
     assert_int_equal(m, i);
@@ -36,6 +42,107 @@ static void test_shape_names_round_trip(void **state) {
   assert_string_equal(rp_shape_reference((rp_shape_model)-1), "unknown");
   assert_non_null(strstr(rp_shape_reference(RP_SHAPE_THURAI), "2007"));
   assert_non_null(strstr(rp_shape_reference(RP_SHAPE_BRANDES), "2002"));
+}
+
+/* The names used before the year was added (files written earlier carry them in their
+ * shape_model attribute) still load, as the same models. */
+static void test_shape_old_names_are_aliases(void **state) {
+  (void)state;
+  const char *old[5] = {"pruppacher-beard", "beard-chuang", "andsager", "brandes", "thurai"};
+  const rp_shape_model want[5] = {RP_SHAPE_PRUPPACHER_BEARD, RP_SHAPE_BEARD_CHUANG,
+                                  RP_SHAPE_ANDSAGER, RP_SHAPE_BRANDES, RP_SHAPE_THURAI};
+  for (int i = 0; i < 5; i++) {
+    rp_shape_model m = RP_SHAPE_COUNT;
+    assert_int_equal(rp_shape_from_name(old[i], &m, NULL), RP_OK);
+    assert_int_equal(m, want[i]);
+  }
+  /* near misses get a suggestion */
+  rp_shape_model m = RP_SHAPE_SPHERE;
+  rp_error err = {0};
+  assert_int_equal(rp_shape_from_name("THURAI-2007", &m, &err), RP_EINVAL);
+  assert_non_null(strstr(err.msg, "did you mean \"thurai-2007\""));
+  assert_int_equal(rp_shape_from_name("Brandes", &m, &err), RP_EINVAL);
+  assert_non_null(strstr(err.msg, "did you mean \"brandes-2002\""));
+  assert_int_equal(rp_shape_from_name("beard-ch", &m, &err), RP_EINVAL);
+  assert_non_null(strstr(err.msg, "did you mean \"beard-chuang-1987\""));
+  assert_int_equal(rp_shape_from_name("oblong", &m, &err), RP_EINVAL);
+  assert_null(strstr(err.msg, "did you mean"));
+  assert_int_equal(m, RP_SHAPE_SPHERE);
+}
+
+/* Pruppacher & Beard (1970) continuous form: min(1, 1.03 - 0.062 D). It equals the
+ * stepped form from 1 mm up and differs below (0.998 at 0.5 mm instead of 1); it
+ * reaches 1 at 0.03 / 0.062 = 0.48387 mm. Hand arithmetic: 1e-12. */
+static void test_shape_pruppacher_beard_linear_is_continuous(void **state) {
+  (void)state;
+  assert_close(ratio(RP_SHAPE_PRUPPACHER_BEARD_LINEAR, 0.5), 0.999, 1e-12, 0.0);
+  assert_close(ratio(RP_SHAPE_PRUPPACHER_BEARD_LINEAR, 0.8), 0.9804, 1e-12, 0.0);
+  assert_close(ratio(RP_SHAPE_PRUPPACHER_BEARD_LINEAR, 0.4), 1.0, 0.0, 0.0);
+  for (double d = 1.0; d <= 10.0; d += 0.25)
+    assert_close(ratio(RP_SHAPE_PRUPPACHER_BEARD_LINEAR, d), ratio(RP_SHAPE_PRUPPACHER_BEARD, d),
+                 0.0, 0.0);
+  /* no step: neighbours 1e-7 mm apart differ by 0.062e-7 at most */
+  for (double d = 0.2; d <= 2.0; d += 0.01)
+    assert_close(ratio(RP_SHAPE_PRUPPACHER_BEARD_LINEAR, d + 1e-7),
+                 ratio(RP_SHAPE_PRUPPACHER_BEARD_LINEAR, d), 0.0, 6.3e-9);
+}
+
+/* Breakpoints: where each model jumps or has a kink, and the side each belongs to.
+ * Jumps (hand arithmetic from the coefficients; 1e-7 for a point 1e-7 mm inside a piece): Thurai 0.7 mm
+ * 1 -> 0.99443805 (the small-drop polynomial at 0.7), 1.5 mm 0.96778125 -> 0.96465044;
+ * Pruppacher-Beard 1 mm 1 -> 0.968; Andsager 1.1 and 4.4 mm. Kinks (clamp at r = 1):
+ * Beard-Chuang (and Andsager below 1.1 mm) where the polynomial falls through 1,
+ * the linear Pruppacher-Beard at 0.03/0.062 mm. */
+static void test_shape_breakpoints_and_sides(void **state) {
+  (void)state;
+  double bp[RP_SHAPE_BREAKPOINTS_MAX];
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_SPHERE, bp, RP_SHAPE_BREAKPOINTS_MAX), 0);
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_BRANDES, bp, RP_SHAPE_BREAKPOINTS_MAX), 0);
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_COUNT, bp, RP_SHAPE_BREAKPOINTS_MAX), 0);
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_ANDSAGER, NULL, 0), 3); /* count only */
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_THURAI, bp, RP_SHAPE_BREAKPOINTS_MAX), 2);
+  assert_close(bp[0], 0.7, 0.0, 0.0);
+  assert_close(bp[1], 1.5, 0.0, 0.0);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_THURAI, 0.7), 0);  /* D <= 0.7: sphere */
+  assert_int_equal(rp_shape_piece(RP_SHAPE_THURAI, 0.7000001), 1);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_THURAI, 1.4999999), 1);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_THURAI, 1.5), 2);  /* D >= 1.5: large fit */
+  assert_close(ratio(RP_SHAPE_THURAI, 0.7000001), 0.99443805, 0.0, 1e-7);
+  assert_close(ratio(RP_SHAPE_THURAI, 1.4999999), 0.96778125, 0.0, 1e-7);
+  assert_close(ratio(RP_SHAPE_THURAI, 1.5), 0.96465044, 0.0, 1e-7);
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_PRUPPACHER_BEARD, bp, 1), 1);
+  assert_close(bp[0], 1.0, 0.0, 0.0);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_PRUPPACHER_BEARD, 0.9999999), 0);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_PRUPPACHER_BEARD, 1.0), 1);
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_PRUPPACHER_BEARD_LINEAR, bp, 1), 1);
+  assert_close(bp[0], 0.03 / 0.062, 1e-14, 0.0);
+  /* a clamp kink: r = 1 up to it, below 1 just past it */
+  const rp_shape_model kinked[2] = {RP_SHAPE_BEARD_CHUANG, RP_SHAPE_ANDSAGER};
+  for (int i = 0; i < 2; i++) {
+    const size_t n = rp_shape_breakpoints(kinked[i], bp, RP_SHAPE_BREAKPOINTS_MAX);
+    assert_true(n >= 1);
+    assert_true(bp[0] > 0.3 && bp[0] < 0.7);
+    assert_close(ratio(kinked[i], bp[0]), 1.0, 0.0, 0.0);
+    assert_true(ratio(kinked[i], bp[0] + 1e-9) < 1.0);
+    assert_int_equal(rp_shape_piece(kinked[i], bp[0]), 0);
+    assert_int_equal(rp_shape_piece(kinked[i], bp[0] + 1e-9), 1);
+  }
+  assert_int_equal(rp_shape_breakpoints(RP_SHAPE_ANDSAGER, bp, RP_SHAPE_BREAKPOINTS_MAX), 3);
+  assert_close(bp[1], 1.1, 0.0, 0.0);
+  assert_close(bp[2], 4.4, 0.0, 0.0);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_ANDSAGER, 1.1), 2);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_ANDSAGER, 4.4), 2);
+  assert_int_equal(rp_shape_piece(RP_SHAPE_ANDSAGER, 4.4000001), 3);
+  /* between breakpoints every model is smooth: no jump larger than the local slope
+   * allows (|dr/dD| < 0.2 mm^-1 for all fits on (0, 10] mm) between points 1e-6 mm apart
+   * in the same piece */
+  for (int m = 0; m < RP_SHAPE_COUNT; m++)
+    for (double d = 0.05; d < 9.9; d += 0.01) {
+      const double d2 = d + 1e-6;
+      if (rp_shape_piece((rp_shape_model)m, d) != rp_shape_piece((rp_shape_model)m, d2))
+        continue;
+      assert_close(ratio((rp_shape_model)m, d2), ratio((rp_shape_model)m, d), 0.0, 2e-7);
+    }
 }
 
 static void test_shape_unknown_name_is_einval_listing_valid_names(void **state) {
@@ -188,6 +295,9 @@ int main(void) {
   rp_test_init();
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_shape_names_round_trip),
+      cmocka_unit_test(test_shape_old_names_are_aliases),
+      cmocka_unit_test(test_shape_pruppacher_beard_linear_is_continuous),
+      cmocka_unit_test(test_shape_breakpoints_and_sides),
       cmocka_unit_test(test_shape_unknown_name_is_einval_listing_valid_names),
       cmocka_unit_test(test_shape_default_is_thurai),
       cmocka_unit_test(test_shape_formulas_at_hand_computed_points),

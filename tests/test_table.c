@@ -5,6 +5,7 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "rainprint/shape.h"
 #include "rainprint/table.h"
 #include "rainprint/table_file.h"
 
@@ -35,9 +36,15 @@ static rp_table *small_table(void) {
 static void test_table_build_grid_and_values(void **state) {
   (void)state;
   rp_table *t = small_table();
-  assert_int_equal(t->n, 12);
+  /* 0.5..6 by 0.5 (12 points) plus knots beside the default (Thurai) shape's
+   * breakpoints: 0.7 mm (sphere side, D <= 0.7) and 0.700001 (small-drop side), and
+   * 1.499999 mm below 1.5 (a grid point, on the large-drop side) */
+  assert_int_equal(t->n, 15);
   assert_close(t->d_mm[0], 0.5, 0.0, 1e-15);
-  assert_close(t->d_mm[11], 6.0, 1e-15, 0.0);
+  assert_close(t->d_mm[t->n - 1], 6.0, 1e-15, 0.0);
+  const double want[15] = {0.5, 0.7, 0.700001, 1.0, 1.499999, 1.5, 2.0, 2.5,
+                           3.0, 3.5, 4.0, 4.5, 5.0, 5.5, 6.0};
+  for (size_t i = 0; i < t->n; i++) assert_close(t->d_mm[i], want[i], 1e-12, 0.0);
   for (size_t i = 1; i < t->n; i++) {
     /* backscatter grows with size, oblate drops: hh > vv, positive extinction */
     assert_true(t->back_hh2_mm2[i] > t->back_hh2_mm2[i - 1]);
@@ -45,6 +52,59 @@ static void test_table_build_grid_and_values(void **state) {
     assert_true(t->fwd_hh_im_mm[i] > 0.0);
     assert_true(t->fall_speed_m_s[i] > t->fall_speed_m_s[i - 1]);
   }
+  /* the knots on either side carry either branch's axis ratio */
+  assert_close(t->axis_ratio[1], 1.0, 0.0, 0.0);
+  assert_true(t->axis_ratio[2] < 0.995);
+  assert_true(t->axis_ratio[4] - t->axis_ratio[5] > 0.003);
+  rp_table_free(t);
+}
+
+/* The default grid gains the breakpoint knots of its shape model and is otherwise the
+ * uniform 0.1..8 by 0.1 mm grid; a fixed axis ratio or a smooth model (Brandes) adds
+ * none; a grid point that round-off puts 1 ulp past a breakpoint (0.1 + 6 * 0.1 =
+ * 0.7000000000000001) is the breakpoint itself, so diameters stay at least 1e-6 mm
+ * apart. Rayleigh keeps it cheap. */
+static void test_table_grid_gains_breakpoint_knots_only(void **state) {
+  (void)state;
+  rp_drop_config c;
+  rp_drop_config_default(&c);
+  c.method = RP_METHOD_RAYLEIGH;
+  rp_table *t = NULL;
+  rp_error err = {0};
+  const rp_shape_model shapes[4] = {RP_SHAPE_THURAI, RP_SHAPE_PRUPPACHER_BEARD,
+                                    RP_SHAPE_BRANDES, RP_SHAPE_ANDSAGER};
+  const size_t extra[4] = {2, 1, 0, 4}; /* Andsager: the kink and 1.1, 4.4 (grid points) */
+  for (int k = 0; k < 4; k++) {
+    c.shape = shapes[k];
+    if (rp_table_build(&c, RP_TABLE_DMIN_DEFAULT_MM, RP_TABLE_DMAX_DEFAULT_MM,
+                       RP_TABLE_DSTEP_DEFAULT_MM, &t, &err) != RP_OK)
+      fail_msg("build: %s", err.msg);
+    if (t->n != 80 + extra[k]) fail_msg("%s: %zu diameters", rp_shape_name(shapes[k]), t->n);
+    size_t on_grid = 0;
+    for (size_t i = 0; i < t->n; i++) {
+      if (i > 0) assert_true(t->d_mm[i] - t->d_mm[i - 1] >= 1e-6 * (1.0 - 1e-9));
+      const double g = 0.1 * round(t->d_mm[i] / 0.1);
+      if (fabs(t->d_mm[i] - g) <= 1e-9) on_grid++;
+    }
+    assert_int_equal(on_grid, 80);
+    /* both sides of every breakpoint have a knot within 1e-6 mm */
+    double bp[RP_SHAPE_BREAKPOINTS_MAX];
+    const size_t nb = rp_shape_breakpoints(shapes[k], bp, RP_SHAPE_BREAKPOINTS_MAX);
+    for (size_t b = 0; b < nb; b++) {
+      int below = 0, above = 0;
+      for (size_t i = 0; i < t->n; i++) {
+        if (fabs(t->d_mm[i] - bp[b]) > 1e-6 * (1.0 + 1e-9)) continue;
+        if (rp_shape_piece(shapes[k], t->d_mm[i]) == b) below = 1;
+        if (rp_shape_piece(shapes[k], t->d_mm[i]) == b + 1) above = 1;
+      }
+      assert_true(below && above);
+    }
+    rp_table_free(t);
+  }
+  c.shape = RP_SHAPE_THURAI;
+  c.axis_ratio_fixed = 0.8;
+  assert_int_equal(rp_table_build(&c, 0.1, 8.0, 0.1, &t, &err), RP_OK);
+  assert_int_equal(t->n, 80);
   rp_table_free(t);
 }
 
@@ -173,16 +233,22 @@ static void test_table_build_grid_ending_at_10_mm_stays_in_domain(void **state) 
   rp_table *t = NULL;
   rp_error err = {0};
   if (rp_table_build(&c, 0.05, 10.0, 0.05, &t, &err) != RP_OK) fail_msg("build: %s", err.msg);
-  assert_int_equal(t->n, 200);
+  /* 200 grid points and the 2 knots beside the default (Thurai) breakpoints */
+  assert_int_equal(t->n, 202);
   assert_true(t->d_mm[t->n - 1] == 10.0);
+  size_t g = 0;
   for (size_t i = 0; i < t->n; i++) {
-    assert_close(t->d_mm[i], 0.05 * (double)(i + 1), 1e-12, 0.0);
     assert_true(t->d_mm[i] <= 10.0);
+    if (fabs(t->d_mm[i] - 0.700001) < 1e-12 || fabs(t->d_mm[i] - 1.499999) < 1e-12) continue;
+    assert_close(t->d_mm[i], 0.05 * (double)(g + 1), 1e-12, 0.0);
+    g++;
   }
+  assert_int_equal(g, 200);
   rp_table_free(t);
-  /* a grid whose last point falls short of dmax keeps its uniform step (no dmax point) */
+  /* a grid whose last point falls short of dmax keeps its uniform step (no dmax point):
+   * 0.3..9.9 (33 points), plus 0.7 and 0.700001, and 1.499999 below the grid's 1.5 */
   if (rp_table_build(&c, 0.3, 10.0, 0.3, &t, &err) != RP_OK) fail_msg("build: %s", err.msg);
-  assert_int_equal(t->n, 33);
+  assert_int_equal(t->n, 36);
   assert_close(t->d_mm[t->n - 1], 9.9, 1e-12, 0.0);
   rp_table_free(t);
 }
@@ -254,6 +320,7 @@ int main(void) {
       cmocka_unit_test(test_table_load_refuses_malformed_files),
       cmocka_unit_test(test_table_save_failure_leaves_no_file),
       cmocka_unit_test(test_table_build_refuses_bad_grid),
+      cmocka_unit_test(test_table_grid_gains_breakpoint_knots_only),
       cmocka_unit_test(test_table_build_grid_ending_at_10_mm_stays_in_domain),
       cmocka_unit_test(test_shipped_table_regenerates),
       cmocka_unit_test(test_table_obtain_prefers_shipped_then_cache),

@@ -35,7 +35,6 @@
 #include <gsl/gsl_integration.h>
 #include <gsl/gsl_sf_gamma.h>
 #include <gsl/gsl_sf_psi.h>
-#include <gsl/gsl_spline.h>
 
 #include "rainprint/shape.h"
 
@@ -62,11 +61,32 @@ static const double D_SLACK_MM = 1e-9;
 /* 10 / ln 10: natural log -> decibels of a power ratio. */
 static const double DB_PER_NEPER = 4.3429448190325182765;
 
+/* Quadrature intervals narrower than this (mm) between a piece's outermost knot and its
+ * breakpoint are merged into the neighbouring interval (the knot sits at the breakpoint
+ * up to round-off or the table builder's 1e-6 mm offset). */
+static const double GAP_MERGE_MM = 1e-4;
+
+/* A smooth piece of the table: the knots between two breakpoints of the shape model
+ * (or the whole table when the model has none inside it). */
+typedef struct {
+  double lo_mm, hi_mm; /* extent: breakpoints, or the table's ends */
+  size_t k0, nk;       /* knots: table indices k0 .. k0 + nk - 1 (nk >= 1) */
+  int scaled;          /* the (1 - r) scaling of the q_oblate quantities is on */
+} plan_piece;
+
 struct rp_gate_plan {
   double dmin_mm, dmax_mm, wavelength_mm, kw2;
   size_t n_table;
   double *table_d_mm;        /* copy of the table's diameters (spline knots) */
-  gsl_spline *spline[NQ];    /* q_j / (D^p_j [1 - r(D)]) over the table */
+  /* piecewise cubic of q_j / (D^p_j [1 - r(D)]): for knot i, the 4 coefficients of
+   * the cubic in (D - D_i) used from D_i on (the last knot's slot is used only by a
+   * piece of one knot) at coef[(i * NQ + j) * 4] */
+  double *coef;
+  size_t n_pieces;
+  plan_piece *pieces;
+  size_t n_bp;               /* breakpoints between pieces (n_pieces - 1) */
+  double bp_mm[RP_SHAPE_BREAKPOINTS_MAX];
+  int bp_left_closed[RP_SHAPE_BREAKPOINTS_MAX]; /* D = bp belongs to the piece below */
   int use_shape;             /* 1: the (1 - r) scaling is on (table's shape known) */
   rp_shape_model shape;      /* shape model of the table (use_shape) */
   double r_fixed;            /* > 0: fixed axis ratio of the table (use_shape) */
@@ -186,30 +206,157 @@ static rp_status shape_r(rp_shape_model shape, double r_fixed, double d_mm, doub
   return rp_shape_axis_ratio(shape, d_mm, r, err);
 }
 
-/* The factor 1 - r(D) of the (1 - r) scaling, 1 when it is off. */
+/* ---- piecewise cubic splines ------------------------------------------------------- */
+
+/* Interpolating cubic through (x_i, y_i), i < n, as per-interval coefficients
+ * c[4 i .. 4 i + 3] of y_i + c1 t + c2 t^2 + c3 t^3, t = x - x_i (c[4 i] = y_i).
+ * n >= 4: not-a-knot end conditions (third derivative continuous across x_1 and
+ * x_{n-2}; de Boor 1978, A Practical Guide to Splines, ch. IV), solved for the knot
+ * slopes s_i by Gaussian elimination of the tridiagonal system without pivoting (as
+ * de Boor's CUBSPL); it reproduces cubics exactly and, unlike the natural spline,
+ * imposes no f'' = 0 at a piece's end next to a breakpoint. n = 3: the parabola
+ * through the points; n = 2: the line; n = 1: the constant. Workspace w holds 3 n
+ * doubles. The slots of the last knot are left untouched except for n = 1. */
+static void spline_fit(const double *x, const double *y, size_t n, double *c,
+                       size_t stride, double *w) {
+  if (n == 1) {
+    c[0] = y[0];
+    c[1] = c[2] = c[3] = 0.0;
+    return;
+  }
+  double *sl = w, *diag = w + n, *rhs = w + 2 * n;
+  if (n == 2) {
+    sl[0] = sl[1] = (y[1] - y[0]) / (x[1] - x[0]);
+  } else if (n == 3) {
+    /* slopes of the parabola at the three knots */
+    const double h0 = x[1] - x[0], h1 = x[2] - x[1];
+    const double d0 = (y[1] - y[0]) / h0, d1 = (y[2] - y[1]) / h1;
+    const double c2 = (d1 - d0) / (h0 + h1);
+    sl[0] = d0 - c2 * h0;
+    sl[1] = d0 + c2 * h0;
+    sl[2] = d1 + c2 * h1;
+  } else {
+    /* rows: b_i s_{i-1} + diag_i s_i + a_i s_{i+1} = rhs_i; the sub- and super-
+     * diagonals are formed on the fly from the steps h */
+#define H(i) (x[(i) + 1] - x[(i)])
+#define DEL(i) ((y[(i) + 1] - y[(i)]) / H(i))
+    double sup_prev; /* eliminated super-diagonal of the previous row */
+    {
+      const double h0 = H(0), h1 = H(1);
+      diag[0] = h1;
+      sup_prev = h0 + h1;
+      rhs[0] = ((h0 + 2.0 * (h0 + h1)) * h1 * DEL(0) + h0 * h0 * DEL(1)) / (h0 + h1);
+    }
+    double *sup = sl; /* super-diagonals kept in sl until back substitution */
+    sup[0] = sup_prev;
+    for (size_t i = 1; i + 1 < n; i++) {
+      const double hm = H(i - 1), hi = H(i);
+      const double sub = hi, d = 2.0 * (hm + hi), up = hm;
+      const double r = 3.0 * (hi * DEL(i - 1) + hm * DEL(i));
+      const double f = sub / diag[i - 1];
+      diag[i] = d - f * sup[i - 1];
+      rhs[i] = r - f * rhs[i - 1];
+      sup[i] = up;
+    }
+    {
+      const size_t m = n - 1;
+      const double hl = H(m - 1), hl2 = H(m - 2);
+      const double sub = hl + hl2, d = hl2;
+      const double r = (hl * hl * DEL(m - 2) + (2.0 * (hl2 + hl) + hl) * hl2 * DEL(m - 1)) /
+                       (hl2 + hl);
+      const double f = sub / diag[m - 1];
+      diag[m] = d - f * sup[m - 1];
+      rhs[m] = r - f * rhs[m - 1];
+    }
+    /* back substitution: s_m, then s_i = (rhs_i - sup_i s_{i+1}) / diag_i */
+    double next = rhs[n - 1] / diag[n - 1];
+    for (size_t i = n - 1; i-- > 0;) {
+      const double si = (rhs[i] - sup[i] * next) / diag[i];
+      sl[i + 1] = next;
+      next = si;
+    }
+    sl[0] = next;
+#undef H
+#undef DEL
+  }
+  for (size_t i = 0; i + 1 < n; i++) {
+    const double h = x[i + 1] - x[i], del = (y[i + 1] - y[i]) / h;
+    double *ci = c + stride * i;
+    ci[0] = y[i];
+    ci[1] = sl[i];
+    ci[2] = (3.0 * del - 2.0 * sl[i] - sl[i + 1]) / h;
+    ci[3] = (sl[i] + sl[i + 1] - 2.0 * del) / (h * h);
+  }
+}
+
+/* Piece of the plan holding D by the shape model's rule at its breakpoints. */
+static size_t piece_of(const rp_gate_plan *p, double d_mm) {
+  size_t k = 0;
+  for (size_t i = 0; i < p->n_bp; i++)
+    if (p->bp_left_closed[i] ? d_mm > p->bp_mm[i] : d_mm >= p->bp_mm[i]) k = i + 1;
+  return k;
+}
+
+/* Value at D of quantity j's cubic in piece pc (extrapolated beyond its end knots). */
+static double piece_eval(const rp_gate_plan *p, const plan_piece *pc, int j, double d_mm) {
+  size_t i = pc->k0;
+  if (pc->nk > 1) {
+    size_t lo = pc->k0, hi = pc->k0 + pc->nk - 2; /* last interval's left knot */
+    while (lo < hi) {
+      const size_t mid = lo + (hi - lo + 1) / 2;
+      if (p->table_d_mm[mid] <= d_mm)
+        lo = mid;
+      else
+        hi = mid - 1;
+    }
+    i = lo;
+  }
+  const double *c = p->coef + (i * NQ + (size_t)j) * 4;
+  const double t = d_mm - p->table_d_mm[i];
+  return c[0] + t * (c[1] + t * (c[2] + t * c[3]));
+}
+
+/* The factor 1 - r(D) of the (1 - r) scaling. */
 static rp_status oblate_factor(const rp_gate_plan *p, double d_mm, double *fac,
                                rp_error *err) {
-  *fac = 1.0;
-  if (!p->use_shape) return RP_OK;
   double r;
   RP_TRY(shape_r(p->shape, p->r_fixed, d_mm, &r, err));
   *fac = 1.0 - r;
   return RP_OK;
 }
 
-/* c_j q_j(D) from the splines; RP_EGSL if GSL refuses (D outside the knots). */
-static rp_status spline_q(const rp_gate_plan *p, double d_mm, double q[NQ], rp_error *err) {
-  double fac;
-  RP_TRY(oblate_factor(p, d_mm, &fac, err));
-  for (int j = 0; j < NQ; j++) {
-    double s;
-    int st = gsl_spline_eval_e(p->spline[j], d_mm, NULL, &s);
-    if (st != GSL_SUCCESS)
-      return rp_error_set(err, RP_EGSL, "gate: spline evaluation at D = %g mm failed: %s",
-                          d_mm, gsl_strerror(st));
-    q[j] = p->unit[j] * s * pow_rayleigh(d_mm, j) * (q_oblate[j] ? fac : 1.0);
+/* c_j q_j(D) from piece pc of the splines. The backscatter moments of one drop are then
+ * made consistent: powers >= 0 and |<f_hh f_vv*>| <= sqrt(<|f_hh|^2> <|f_vv|^2>)
+ * (Cauchy–Schwarz, which the exact moments obey and interpolated ones may not); sums of
+ * such nodes with positive weights keep rho_hv <= 1. */
+static rp_status piece_q(const rp_gate_plan *p, const plan_piece *pc, double d_mm,
+                         double q[NQ], rp_error *err) {
+  double fac = 1.0;
+  if (pc->scaled) RP_TRY(oblate_factor(p, d_mm, &fac, err));
+  for (int j = 0; j < NQ; j++)
+    q[j] = p->unit[j] * piece_eval(p, pc, j, d_mm) * pow_rayleigh(d_mm, j) *
+           (pc->scaled && q_oblate[j] ? fac : 1.0);
+  if (!(q[Q_HH2] >= 0.0)) q[Q_HH2] = 0.0;
+  if (!(q[Q_HV2] >= 0.0)) q[Q_HV2] = 0.0;
+  double vv = q[Q_HH2] - q[Q_DIFF];
+  if (!(vv >= 0.0)) {
+    vv = 0.0;
+    q[Q_DIFF] = q[Q_HH2];
+  }
+  /* the unit constant is the same for all backscatter moments: compare directly */
+  const double c = hypot(q[Q_HHVV_RE], q[Q_HHVV_IM]);
+  const double bound = sqrt(q[Q_HH2]) * sqrt(vv);
+  if (c > bound) {
+    const double s = c > 0.0 ? bound / c : 0.0;
+    q[Q_HHVV_RE] *= s;
+    q[Q_HHVV_IM] *= s;
   }
   return RP_OK;
+}
+
+/* c_j q_j(D) with the piece D belongs to. */
+static rp_status spline_q(const rp_gate_plan *p, double d_mm, double q[NQ], rp_error *err) {
+  return piece_q(p, &p->pieces[piece_of(p, d_mm)], d_mm, q, err);
 }
 
 /* Does the table say which shape it was computed for, and do its axis ratios match
@@ -227,40 +374,118 @@ static int table_shape_known(const rp_table *t) {
   return 1;
 }
 
-/* y[i] = q_j(d_i) / (d_i^p [1 - r_i]) at the knots; knots with 1 - r < OBLATE_MIN take
- * the value of the nearest knot that is not spherical (the product with 1 - r there is
- * ~0 whatever y is, and a smooth y keeps the spline from ringing). Returns 0 when every
- * knot is spherical (then the plain scaling is used). */
-static int fill_oblate(const rp_table *t, int j, double *y) {
-  size_t first = t->n;
-  for (size_t i = 0; i < t->n; i++) {
+/* y[i] = q_j(d_i) / (d_i^p [1 - r_i]) at the knots i0 .. i0 + n - 1 (one piece); knots
+ * with 1 - r < OBLATE_MIN take the value of the nearest knot of the piece that is not
+ * spherical (the product with 1 - r there is ~0 whatever y is, and a smooth y keeps
+ * the spline from ringing). Returns 0 when every knot of the piece is spherical (then
+ * the plain scaling is used). */
+static int fill_oblate(const rp_table *t, int j, size_t i0, size_t n, double *y) {
+  size_t first = n;
+  for (size_t k = 0; k < n; k++) {
+    const size_t i = i0 + k;
     const double one_minus_r = 1.0 - t->axis_ratio[i];
     if (fabs(one_minus_r) >= OBLATE_MIN) {
-      y[i] = table_q(t, j, i) / (pow_rayleigh(t->d_mm[i], j) * one_minus_r);
-      if (first == t->n) first = i;
+      y[k] = table_q(t, j, i) / (pow_rayleigh(t->d_mm[i], j) * one_minus_r);
+      if (first == n) first = k;
     } else {
-      y[i] = (double)NAN;
+      y[k] = (double)NAN;
     }
   }
-  if (first == t->n) return 0;
+  if (first == n) return 0;
   double last = y[first];
-  for (size_t i = 0; i < t->n; i++) {
-    if (isnan(y[i]))
-      y[i] = last;
+  for (size_t k = 0; k < n; k++) {
+    if (isnan(y[k]))
+      y[k] = last;
     else
-      last = y[i];
+      last = y[k];
   }
   return 1;
 }
 
 void rp_gate_plan_free(rp_gate_plan *p) {
   if (p == NULL) return;
-  for (int j = 0; j < NQ; j++) gsl_spline_free(p->spline[j]);
   free(p->table_d_mm);
+  free(p->coef);
+  free(p->pieces);
   free(p->d_mm);
   free(p->ln_d);
   free(p->wq);
   free(p);
+}
+
+/* Split the table into the shape model's smooth pieces (fills n_bp, bp_mm,
+ * bp_left_closed, n_pieces, pieces). One piece when the shape is unknown, has no
+ * breakpoint inside the table, or some piece between the table's ends has no knot (a
+ * table too coarse for its shape model: splined across, as a smooth model would be). */
+static rp_status make_pieces(rp_gate_plan *p, const rp_table *t, rp_error *err) {
+  double bp[RP_SHAPE_BREAKPOINTS_MAX];
+  size_t nbp = 0;
+  if (p->use_shape && !(p->r_fixed > 0.0)) {
+    nbp = rp_shape_breakpoints(p->shape, bp, RP_SHAPE_BREAKPOINTS_MAX);
+    if (nbp > RP_SHAPE_BREAKPOINTS_MAX) nbp = RP_SHAPE_BREAKPOINTS_MAX;
+  }
+  const double tmin = t->d_mm[0], tmax = t->d_mm[t->n - 1];
+  p->n_bp = 0;
+  for (size_t b = 0; b < nbp; b++) {
+    const int lc = rp_shape_piece(p->shape, bp[b]) == b;
+    /* only breakpoints with table diameters on both sides split the table */
+    const int below = lc ? tmin <= bp[b] : tmin < bp[b];
+    const int above = lc ? tmax > bp[b] : tmax >= bp[b];
+    if (!(below && above)) continue;
+    p->bp_mm[p->n_bp] = bp[b];
+    p->bp_left_closed[p->n_bp] = lc;
+    p->n_bp++;
+  }
+  p->n_pieces = p->n_bp + 1;
+  p->pieces = calloc(p->n_pieces, sizeof *p->pieces);
+  if (p->pieces == NULL)
+    return rp_error_set(err, RP_ENOMEM, "gate plan: out of memory (%zu pieces)", p->n_pieces);
+  for (size_t k = 0; k < p->n_pieces; k++) p->pieces[k].k0 = t->n;
+  for (size_t i = 0; i < t->n; i++) {
+    plan_piece *pc = &p->pieces[piece_of(p, t->d_mm[i])];
+    if (pc->k0 == t->n) pc->k0 = i;
+    pc->nk++;
+  }
+  int empty = 0;
+  for (size_t k = 0; k < p->n_pieces; k++) empty |= p->pieces[k].nk == 0;
+  if (empty) {
+    p->n_bp = 0;
+    p->n_pieces = 1;
+    p->pieces[0].k0 = 0;
+    p->pieces[0].nk = t->n;
+  }
+  for (size_t k = 0; k < p->n_pieces; k++) {
+    p->pieces[k].lo_mm = k == 0 ? tmin : p->bp_mm[k - 1];
+    p->pieces[k].hi_mm = k + 1 == p->n_pieces ? tmax : p->bp_mm[k];
+  }
+  return RP_OK;
+}
+
+/* Quadrature intervals of piece pc clipped to [dmin, dmax]: between its knots, plus the
+ * stretches between its outermost knots and its ends (merged into the neighbouring
+ * interval when narrower than GAP_MERGE_MM). Writes up to nk + 1 intervals (lo, hi)
+ * to iv (if not NULL) and returns their count. */
+static size_t piece_intervals(const rp_gate_plan *p, const plan_piece *pc, double *iv) {
+  const double *x = p->table_d_mm + pc->k0;
+  const size_t nk = pc->nk;
+  size_t n = 0;
+  /* edges: lo, the knots not within GAP_MERGE_MM of an end, hi */
+  double prev = pc->lo_mm;
+  for (size_t k = 0; k <= nk; k++) {
+    double e = k < nk ? x[k] : pc->hi_mm;
+    if (k < nk && (e - pc->lo_mm < GAP_MERGE_MM || pc->hi_mm - e < GAP_MERGE_MM)) continue;
+    if (!(e > prev)) continue;
+    const double a = fmax(prev, p->dmin_mm), b = fmin(e, p->dmax_mm);
+    if (b > a) {
+      if (iv != NULL) {
+        iv[2 * n] = a;
+        iv[2 * n + 1] = b;
+      }
+      n++;
+    }
+    prev = e;
+  }
+  return n;
 }
 
 rp_status rp_gate_plan_alloc_nodes(const rp_table *t, double dmin_mm, double dmax_mm,
@@ -289,7 +514,7 @@ rp_status rp_gate_plan_alloc_nodes(const rp_table *t, double dmin_mm, double dma
 
   rp_status st = RP_OK;
   gsl_integration_glfixed_table *gl = NULL;
-  double *y = NULL;
+  double *y = NULL, *iv = NULL;
   rp_gate_plan *p = calloc(1, sizeof *p);
   if (p == NULL) goto nomem;
   p->dmin_mm = dmin_mm;
@@ -305,32 +530,36 @@ rp_status rp_gate_plan_alloc_nodes(const rp_table *t, double dmin_mm, double dma
   memcpy(p->unit, units, sizeof units);
 
   p->table_d_mm = malloc(t->n * sizeof *p->table_d_mm);
-  y = malloc(t->n * sizeof *y);
-  if (!p->table_d_mm || !y) goto nomem;
+  p->coef = calloc(t->n * NQ * 4, sizeof *p->coef);
+  y = malloc(4 * t->n * sizeof *y); /* values, then the spline's 3 n workspace */
+  iv = malloc(2 * (t->n + 2 * RP_SHAPE_BREAKPOINTS_MAX + 2) * sizeof *iv);
+  if (!p->table_d_mm || !p->coef || !y || !iv) goto nomem;
   memcpy(p->table_d_mm, t->d_mm, t->n * sizeof *t->d_mm);
   p->use_shape = table_shape_known(t);
   p->shape = t->cfg.shape;
   p->r_fixed = t->cfg.axis_ratio_fixed;
-  /* the scaling needs some non-spherical knot; a table of spheres has none */
-  if (p->use_shape && !fill_oblate(t, Q_KDP, y)) p->use_shape = 0;
-  for (int j = 0; j < NQ; j++) {
-    if (!(p->use_shape && q_oblate[j] && fill_oblate(t, j, y)))
-      for (size_t i = 0; i < t->n; i++) y[i] = table_q(t, j, i) / pow_rayleigh(t->d_mm[i], j);
-    p->spline[j] = gsl_spline_alloc(gsl_interp_cspline, t->n);
-    if (p->spline[j] == NULL) goto nomem;
-    int gs = gsl_spline_init(p->spline[j], t->d_mm, y, t->n);
-    if (gs != GSL_SUCCESS) {
-      st = rp_error_set(err, RP_EGSL, "gate plan: cubic spline through the table failed: %s",
-                        gsl_strerror(gs));
-      goto fail;
+  st = make_pieces(p, t, err);
+  if (st != RP_OK) goto fail;
+  int any_scaled = 0;
+  for (size_t k = 0; k < p->n_pieces; k++) {
+    plan_piece *pc = &p->pieces[k];
+    /* the scaling needs some non-spherical knot in the piece */
+    pc->scaled = p->use_shape && fill_oblate(t, Q_KDP, pc->k0, pc->nk, y);
+    any_scaled |= pc->scaled;
+    for (int j = 0; j < NQ; j++) {
+      if (!(pc->scaled && q_oblate[j] && fill_oblate(t, j, pc->k0, pc->nk, y)))
+        for (size_t i = 0; i < pc->nk; i++)
+          y[i] = table_q(t, j, pc->k0 + i) / pow_rayleigh(t->d_mm[pc->k0 + i], j);
+      spline_fit(t->d_mm + pc->k0, y, pc->nk, p->coef + (pc->k0 * NQ + (size_t)j) * 4,
+                 4 * NQ, y + t->n);
     }
   }
+  p->use_shape = any_scaled;
 
-  /* nodes: m Gauss–Legendre points on each table interval's overlap with [dmin, dmax] */
+  /* nodes: m Gauss–Legendre points on each quadrature interval of each piece */
   const size_t m = (size_t)nodes_per_interval;
   size_t n_int = 0;
-  for (size_t i = 0; i + 1 < t->n; i++)
-    if (fmin(dmax_mm, t->d_mm[i + 1]) > fmax(dmin_mm, t->d_mm[i])) n_int++;
+  for (size_t k = 0; k < p->n_pieces; k++) n_int += piece_intervals(p, &p->pieces[k], NULL);
   p->n_nodes = n_int * m;
   p->d_mm = malloc(p->n_nodes * sizeof *p->d_mm);
   p->ln_d = malloc(p->n_nodes * sizeof *p->ln_d);
@@ -338,22 +567,26 @@ rp_status rp_gate_plan_alloc_nodes(const rp_table *t, double dmin_mm, double dma
   gl = gsl_integration_glfixed_table_alloc(m);
   if (!p->d_mm || !p->ln_d || !p->wq || !gl) goto nomem;
   size_t k = 0;
-  for (size_t i = 0; i + 1 < t->n; i++) {
-    const double a = fmax(dmin_mm, t->d_mm[i]), b = fmin(dmax_mm, t->d_mm[i + 1]);
-    if (!(b > a)) continue;
-    for (size_t g = 0; g < m; g++, k++) {
-      double xg, wg;
-      gsl_integration_glfixed_point(a, b, g, &xg, &wg, gl);
-      p->d_mm[k] = xg;
-      p->ln_d[k] = log(xg);
-      double q[NQ];
-      st = spline_q(p, xg, q, err);
-      if (st != RP_OK) goto fail;
-      for (int j = 0; j < NQ; j++) p->wq[k * NQ + (size_t)j] = wg * q[j];
+  for (size_t ip = 0; ip < p->n_pieces; ip++) {
+    const plan_piece *pc = &p->pieces[ip];
+    const size_t ni = piece_intervals(p, pc, iv);
+    for (size_t i = 0; i < ni; i++) {
+      const double a = iv[2 * i], b = iv[2 * i + 1];
+      for (size_t g = 0; g < m; g++, k++) {
+        double xg, wg;
+        gsl_integration_glfixed_point(a, b, g, &xg, &wg, gl);
+        p->d_mm[k] = xg;
+        p->ln_d[k] = log(xg);
+        double q[NQ];
+        st = piece_q(p, pc, xg, q, err);
+        if (st != RP_OK) goto fail;
+        for (int j = 0; j < NQ; j++) p->wq[k * NQ + (size_t)j] = wg * q[j];
+      }
     }
   }
   gsl_integration_glfixed_table_free(gl);
   free(y);
+  free(iv);
   *out = p;
   return RP_OK;
 
@@ -362,6 +595,7 @@ nomem:
 fail:
   gsl_integration_glfixed_table_free(gl);
   free(y);
+  free(iv);
   rp_gate_plan_free(p);
   return st;
 }
@@ -399,7 +633,8 @@ static const double GL5_W[5] = {0.5688888888888888889, 0.4786286704993664680,
                                 0.4786286704993664680, 0.2369268850561890875,
                                 0.2369268850561890875};
 
-/* acc += ∫_lo^hi c_j q_j(D) dD of the spline interpolant, piece by piece. */
+/* acc += ∫_lo^hi c_j q_j(D) dD of the spline interpolant, split at the knots and at the
+ * breakpoints between pieces (each part a polynomial times the (1 - r) factor). */
 static rp_status bin_integral(const rp_gate_plan *p, double lo, double hi, double acc[NQ],
                               rp_error *err) {
   /* first knot strictly above lo */
@@ -414,15 +649,18 @@ static rp_status bin_integral(const rp_gate_plan *p, double lo, double hi, doubl
   size_t j = a_i;
   double a = lo;
   while (a < hi) {
-    const double b = (j < p->n_table && p->table_d_mm[j] < hi) ? p->table_d_mm[j] : hi;
+    while (j < p->n_table && p->table_d_mm[j] <= a) j++;
+    double b = (j < p->n_table && p->table_d_mm[j] < hi) ? p->table_d_mm[j] : hi;
+    for (size_t i = 0; i < p->n_bp; i++)
+      if (p->bp_mm[i] > a && p->bp_mm[i] < b) b = p->bp_mm[i];
     const double half = 0.5 * (b - a), mid = 0.5 * (a + b);
+    const plan_piece *pc = &p->pieces[piece_of(p, mid)];
     for (int g = 0; g < 5; g++) {
       double q[NQ];
-      RP_TRY(spline_q(p, mid + half * GL5_X[g], q, err));
+      RP_TRY(piece_q(p, pc, mid + half * GL5_X[g], q, err));
       for (int k = 0; k < NQ; k++) acc[k] += half * GL5_W[g] * q[k];
     }
     a = b;
-    j++;
   }
   return RP_OK;
 }
@@ -645,7 +883,14 @@ static void node_fields(const jet s[NQ], double x, const int mode[NF], jet f[NF]
                          jet_mul(s[Q_HHVV_IM], s[Q_HHVV_IM]));
   if (c2.v > 0.0) {
     /* ln rho = (1/2) ln |C|^2 - (1/2) ln Z_h - (1/2) ln Z_v */
-    f[F_RHO] = jet_exp(jet_scale(jet_sub(jet_log(c2), jet_add(lzh, lzv)), 0.5));
+    const jet lrho = jet_scale(jet_sub(jet_log(c2), jet_add(lzh, lzv)), 0.5);
+    if (mode[F_RHO] == MODE_LOG) {
+      /* ln(1 - rho), 1 - rho = -expm1(ln rho) without cancellation */
+      const double e = exp(lrho.v);
+      f[F_RHO] = jet_log(jet_fn(lrho, -expm1(lrho.v), -e, -e));
+    } else {
+      f[F_RHO] = jet_exp(lrho);
+    }
     f[F_DELTA] = jet_scale(jet_atan2(s[Q_HHVV_IM], s[Q_HHVV_RE]), 180.0 / M_PI);
   } else {
     f[F_RHO] = f[F_DELTA] = (jet){0, 0, 0, 0};
@@ -737,7 +982,17 @@ rp_status rp_gate_fast_alloc(const rp_gate_plan *p, rp_gate_fast **out, rp_error
         if (s[j].v != 0.0) zero[j] = 0;
       }
     }
-  f->mode[F_ZH] = f->mode[F_ZDR] = f->mode[F_RHO] = f->mode[F_DELTA] = MODE_LOG;
+  f->mode[F_ZH] = f->mode[F_ZDR] = f->mode[F_DELTA] = MODE_LOG;
+  /* rho_hv: ln(1 - rho) when 1 - rho > 0 at every node (then rho = 1 - exp(.) <= 1 by
+   * construction); else rho itself, clipped to 1 after interpolation (spheres) */
+  f->mode[F_RHO] = MODE_LOG;
+  for (size_t node = 0; node < nn && f->mode[F_RHO] == MODE_LOG; node++) {
+    const jet *s = sums + node * NQ;
+    const double c2 = s[Q_HHVV_RE].v * s[Q_HHVV_RE].v + s[Q_HHVV_IM].v * s[Q_HHVV_IM].v;
+    const double zh = s[Q_HH2].v, zv = s[Q_HH2].v - s[Q_DIFF].v;
+    const double lrho = 0.5 * (log(c2) - log(zh) - log(zv));
+    if (!(c2 > 0.0) || !(-expm1(lrho) > 0.0)) f->mode[F_RHO] = MODE_LIN;
+  }
   f->mode[F_LDR] = sign_mode(pos[Q_HV2], zero[Q_HV2]);
   f->mode[F_KDP] = sign_mode(pos[Q_KDP], zero[Q_KDP]);
   f->mode[F_AH] = sign_mode(pos[Q_AH], zero[Q_AH]);
@@ -813,7 +1068,7 @@ rp_status rp_gate_fast_eval(const rp_gate_fast *f, double nw_m3_mm, double d0_mm
   r.zh_dbz = DB_PER_NEPER * ln_zh;
   r.zdr_db = DB_PER_NEPER * val[F_ZDR];
   r.zv_dbz = r.zh_dbz - r.zdr_db;
-  r.rhohv = val[F_RHO];
+  r.rhohv = f->mode[F_RHO] == MODE_LOG ? 1.0 - exp(val[F_RHO]) : fmin(val[F_RHO], 1.0);
   r.delta_hv_deg = val[F_DELTA];
   switch (f->mode[F_LDR]) {
     case MODE_LOG: r.ldr_db = ldr_with_floor(DB_PER_NEPER * val[F_LDR]); break;

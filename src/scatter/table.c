@@ -102,14 +102,83 @@ static rp_status grid_size(double dmin, double dmax, double dstep, size_t *n, rp
   return RP_OK;
 }
 
+/* Offset (mm) of the knot added on the far side of a shape breakpoint: close enough
+ * that extrapolating a piece over it costs nothing (r and q are smooth within a piece),
+ * far enough that the diameters stay distinct in a file written with %.17g. */
+#define BP_OFFSET_MM 1e-6
+/* Grid points this close (mm) to a breakpoint are the breakpoint (decimal round-off of
+ * dmin + i dstep, e.g. 0.1 + 6 * 0.1 = 0.7000000000000001). */
+#define BP_SNAP_MM 1e-9
+
+static int has_point(const double *d, size_t n, double lo, double hi) {
+  for (size_t i = 0; i < n; i++)
+    if (d[i] >= lo && d[i] <= hi) return 1;
+  return 0;
+}
+
+static int cmp_double(const void *a, const void *b) {
+  const double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+/* The diameters of a table: the uniform grid (n_grid points), snapped to the shape
+ * model's breakpoints, plus knots that give both sides of every breakpoint within
+ * [dmin, dmax] a knot next to it: the breakpoint itself on the side it belongs to (by
+ * the model's rule) and bp -+ BP_OFFSET_MM on the other. Ascending, distinct. *d_out
+ * is malloc'ed (caller frees). */
+static rp_status grid_diameters(const rp_drop_config *cfg, double dmin, double dmax,
+                                double dstep, size_t n_grid, double **d_out, size_t *n_out,
+                                rp_error *err) {
+  double bp[RP_SHAPE_BREAKPOINTS_MAX];
+  size_t nbp = 0;
+  if (!(cfg->axis_ratio_fixed > 0.0))
+    nbp = rp_shape_breakpoints(cfg->shape, bp, RP_SHAPE_BREAKPOINTS_MAX);
+  if (nbp > RP_SHAPE_BREAKPOINTS_MAX) nbp = RP_SHAPE_BREAKPOINTS_MAX;
+  double *d = malloc((n_grid + 2 * nbp) * sizeof *d);
+  if (d == NULL)
+    return rp_error_set(err, RP_ENOMEM, "out of memory for a %zu-diameter grid", n_grid);
+  size_t n = 0;
+  for (size_t i = 0; i < n_grid; i++) {
+    /* rounding (and the 1e-9 allowance of grid_size) can put the last point a few ulp
+     * past dmax, e.g. 10.000000000000002 for 0.05..10 by 0.05, which is outside
+     * (0, 10] mm: clamp it to dmax */
+    double x = fmin(dmin + (double)i * dstep, dmax);
+    for (size_t b = 0; b < nbp; b++)
+      if (fabs(x - bp[b]) <= BP_SNAP_MM) x = bp[b];
+    d[n++] = x;
+  }
+  const size_t n_base = n;
+  for (size_t b = 0; b < nbp; b++) {
+    const double x = bp[b];
+    if (!(x >= dmin && x <= dmax)) continue;
+    if (!has_point(d, n_base, x, x)) d[n++] = x;
+    /* the side x does not belong to gets x -+ offset, unless a grid point is that close */
+    const int left_closed = rp_shape_piece(cfg->shape, x) == b;
+    const double y = left_closed ? x + BP_OFFSET_MM : x - BP_OFFSET_MM;
+    const double lo = fmin(x, y), hi = fmax(x, y);
+    if (y >= dmin && y <= dmax && !has_point(d, n_base, left_closed ? nextafter(lo, hi) : lo,
+                                             left_closed ? hi : nextafter(hi, lo)))
+      d[n++] = y;
+  }
+  qsort(d, n, sizeof *d, cmp_double);
+  *d_out = d;
+  *n_out = n;
+  return RP_OK;
+}
+
 rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
                          double dstep_mm, rp_table **out, rp_error *err) {
   *out = NULL;
   RP_TRY(rp_drop_config_check(cfg, err));
-  size_t n = 0;
-  RP_TRY(grid_size(dmin_mm, dmax_mm, dstep_mm, &n, err));
+  size_t n_grid = 0, n = 0;
+  RP_TRY(grid_size(dmin_mm, dmax_mm, dstep_mm, &n_grid, err));
+  double *grid = NULL;
+  RP_TRY(grid_diameters(cfg, dmin_mm, dmax_mm, dstep_mm, n_grid, &grid, &n, err));
   rp_table *t = rp_table_alloc(n);
-  if (t == NULL) return rp_error_set(err, RP_ENOMEM, "out of memory for a %zu-diameter table", n);
+  if (t == NULL) {
+    free(grid);
+    return rp_error_set(err, RP_ENOMEM, "out of memory for a %zu-diameter table", n);
+  }
   t->cfg = *cfg;
   t->fall_model = RP_FALL_DEFAULT;
   t->wavelength_mm = rp_wavelength_mm(cfg->freq_ghz);
@@ -125,10 +194,7 @@ rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_
     for (size_t i = 0; i < n; i++) {
       rp_status s = RP_OK;
       rp_drop_result r;
-      /* rounding (and the 1e-9 allowance of grid_size) can put the last point a few
-       * ulp past dmax, e.g. 10.000000000000002 for 0.05..10 by 0.05, which is outside
-       * (0, 10] mm: clamp it to dmax */
-      const double d = fmin(dmin_mm + (double)i * dstep_mm, dmax_mm);
+      const double d = grid[i];
       if (ws == NULL) {
         s = rp_error_set(&local, RP_ENOMEM, "out of memory for a drop workspace");
       } else {
@@ -162,6 +228,7 @@ rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_
     }
     rp_drop_ws_free(ws);
   }
+  free(grid);
   if (status != RP_OK) {
     if (err != NULL) *err = bad;
     rp_table_free(t);
