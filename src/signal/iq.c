@@ -1,0 +1,459 @@
+/* iq.c — synthetic dual-polarisation I/Q samples of one gate (Zrnić 1975).
+ *
+ * Method (Zrnić 1975, "Simulation of weatherlike Doppler spectra and signals", J. Appl.
+ * Meteor. 14, 619-620): the signal of a gate is a complex Gaussian process; its N-point
+ * discrete Fourier coefficients X_j are independent complex Gaussians (power
+ * exponentially distributed, phase uniform) with E|X_j|^2 = S D_j / sum D, D_j the
+ * spectral density sampled at frequency j/N (cycles per pulse). The inverse transform
+ * x_m = sum_j X_j e^{2 pi i j m / N} (FFTW backward, unnormalised) has E|x|^2 = S and
+ * autocorrelation E[x*_m x_{m+k}] = S sum_j (D_j/sum D) e^{2 pi i j k / N}.
+ *
+ * Periodicity: by Poisson summation, sampling the density (folded over the Nyquist
+ * interval) at j/N gives the autocorrelation sum_p r(k + pN) / sum_p r(pN): the true
+ * one plus its copies shifted by N lags (the series is N-periodic). We keep M samples
+ * of a series of length N >= M with N the smallest power of two for which the copies
+ * are negligible: for a Gaussian of normalised width sigma = w/(2 v_a),
+ * r(N) = exp(-2 pi^2 sigma^2 N^2) <= 1e-6 when N sigma >= sqrt(ln(1e6)/(2 pi^2)) =
+ * 0.8366 (RP_IQ_WRAP_NSIGMA). So the lag correlations of the M kept samples are those
+ * of the input spectrum to 1e-6 (tested), whatever M and the width, up to
+ * N <= n_cap = max(8192, 16 M) (power of two). Components narrower than
+ * RP_IQ_WRAP_NSIGMA / n_cap are treated as lines (all power in one bin): then
+ * r(k) = 1 instead of exp(-2 pi^2 sigma^2 k^2), a relative error below
+ * 2 pi^2 (0.8366 M / n_cap)^2 <= 5.4 % at the last lag k = M and far less at lags 1-2
+ * (widths below 0.84 * 2 v_a / n_cap, e.g. 3 mm/s for v_a = 16 m/s and M = 64).
+ *
+ * Exact mean velocity: the spectrum is synthesised around a shift frequency f_s (the
+ * mean of a Gaussian; the phase of r(1) of a mixture) and the series multiplied by
+ * e^{2 pi i f_s m}, so the mean velocity is not quantised to the bins, and a Gaussian
+ * is centred exactly on bin 0, where its folded samples come from a recurrence
+ * (g_{k+1} = g_k exp(-(2k+1)/(2 s^2))) instead of one exp() per bin.
+ *
+ * Dual polarisation: two independent series s, w with the same spectrum;
+ * H = s + n_h, V = g (rho e^{-i Phi} s + sqrt(1 - rho^2) w) + n_v with
+ * g = 10^(-Z_DR/20), so <|V|^2> - 1 = S 10^(-Z_DR/10), |<H V*>| = rho sqrt(S_h S_v) and
+ * arg <H V*> = Phi_DP (the sign of delta_hv = arg <f_hh f_vv*>, gate.h). Noise n_h, n_v:
+ * independent complex Gaussians of power 1.
+ *
+ * Draw order from the stream (fixed, so a seed gives the same samples anywhere):
+ * X_0..X_{N-1} (real, imaginary), then W's coefficients when rho < 1, then for each
+ * pulse the H noise and the V noise.
+ *
+ * Invariants: no allocation per gate (plans made once per size per workspace); no
+ * global state besides the planner mutex of fft_plan.c. */
+#include "rainprint/iq.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "signal/signal_internal.h"
+
+static const double complex IU = CMPLX(0.0, 1.0);
+
+#define RP_IQ_WRAP_NSIGMA 0.8366
+/* Gaussian tails are summed out to this many standard deviations (exp(-41.4) = 1e-18). */
+#define RP_IQ_TAIL_NSIGMA 9.1
+
+static const double TWO_PI = 6.283185307179586476925;
+
+double rp_iq_nyquist_m_s(double prt_s, double wavelength_mm) {
+  return 1e-3 * wavelength_mm / (4.0 * prt_s);
+}
+
+static int bad(double x) { return !isfinite(x); }
+
+rp_status rp_iq_params_check(const rp_iq_params *p, const rp_iq_spectrum *spec,
+                             rp_error *err) {
+  if (!p) return rp_error_set(err, RP_EINVAL, "I/Q parameters: NULL pointer");
+  if (p->n_pulses < 2 || p->n_pulses > RP_IQ_MAX_PULSES)
+    return rp_error_set(err, RP_EINVAL, "number of pulses M = %zu outside [2, %d]",
+                        p->n_pulses, RP_IQ_MAX_PULSES);
+  if (bad(p->prt_s) || p->prt_s <= 0)
+    return rp_error_set(err, RP_EINVAL, "PRT = %g s must be positive and finite", p->prt_s);
+  if (bad(p->wavelength_mm) || p->wavelength_mm <= 0)
+    return rp_error_set(err, RP_EINVAL, "wavelength = %g mm must be positive and finite",
+                        p->wavelength_mm);
+  const double va = rp_iq_nyquist_m_s(p->prt_s, p->wavelength_mm);
+  if (bad(va) || va <= 0)
+    return rp_error_set(err, RP_EINVAL, "Nyquist velocity = %g m/s from PRT %g s and "
+                        "wavelength %g mm is not a positive finite number", va, p->prt_s,
+                        p->wavelength_mm);
+  if (bad(p->snr_db))
+    return rp_error_set(err, RP_EINVAL, "SNR = %g dB must be finite", p->snr_db);
+  if (p->snr_db < RP_IQ_SNR_MIN_DB || p->snr_db > RP_IQ_SNR_MAX_DB)
+    return rp_error_set(err, RP_EDOM, "SNR = %g dB outside [%g, %g] dB", p->snr_db,
+                        RP_IQ_SNR_MIN_DB, RP_IQ_SNR_MAX_DB);
+  if (bad(p->zh_dbz))
+    return rp_error_set(err, RP_EINVAL, "Zh = %g dBZ must be finite", p->zh_dbz);
+  if (bad(p->zdr_db))
+    return rp_error_set(err, RP_EINVAL, "ZDR = %g dB must be finite", p->zdr_db);
+  if (fabs(p->zdr_db) > RP_IQ_ZDR_MAX_DB)
+    return rp_error_set(err, RP_EDOM, "ZDR = %g dB outside [-%g, %g] dB", p->zdr_db,
+                        RP_IQ_ZDR_MAX_DB, RP_IQ_ZDR_MAX_DB);
+  if (bad(p->rhohv) || p->rhohv < 0 || p->rhohv > 1)
+    return rp_error_set(err, RP_EINVAL, "rhoHV = %g outside [0, 1]", p->rhohv);
+  if (bad(p->phidp_deg))
+    return rp_error_set(err, RP_EINVAL, "PhiDP = %g deg must be finite", p->phidp_deg);
+  if (!spec) {
+    if (bad(p->velocity_m_s))
+      return rp_error_set(err, RP_EINVAL, "mean velocity = %g m/s must be finite",
+                          p->velocity_m_s);
+    if (bad(p->width_m_s) || p->width_m_s < 0)
+      return rp_error_set(err, RP_EINVAL, "spectrum width = %g m/s must be >= 0 and finite",
+                          p->width_m_s);
+    if (p->width_m_s > va)
+      return rp_error_set(err, RP_EDOM, "spectrum width %g m/s exceeds the Nyquist velocity "
+                          "%g m/s (PRT %g s, wavelength %g mm)", p->width_m_s, va, p->prt_s,
+                          p->wavelength_mm);
+    return RP_OK;
+  }
+  if (spec->n == 0 || !spec->weight || !spec->mean_m_s || !spec->width_m_s)
+    return rp_error_set(err, RP_EINVAL, "Doppler spectrum: no components or NULL arrays");
+  double wsum = 0;
+  for (size_t c = 0; c < spec->n; c++) {
+    const double w = spec->weight[c], m = spec->mean_m_s[c], s = spec->width_m_s[c];
+    if (bad(w) || w < 0)
+      return rp_error_set(err, RP_EINVAL, "Doppler spectrum component %zu: weight %g must be "
+                          ">= 0 and finite", c, w);
+    if (bad(m))
+      return rp_error_set(err, RP_EINVAL, "Doppler spectrum component %zu: mean velocity %g "
+                          "m/s must be finite", c, m);
+    if (bad(s) || s < 0)
+      return rp_error_set(err, RP_EINVAL, "Doppler spectrum component %zu: width %g m/s must "
+                          "be >= 0 and finite", c, s);
+    if (s > va)
+      return rp_error_set(err, RP_EDOM, "Doppler spectrum component %zu: width %g m/s "
+                          "exceeds the Nyquist velocity %g m/s", c, s, va);
+    wsum += w;
+  }
+  if (!(wsum > 0) || !isfinite(wsum))
+    return rp_error_set(err, RP_EINVAL, "Doppler spectrum: the weights sum to %g, not a "
+                        "positive finite number", wsum);
+  return RP_OK;
+}
+
+/* ---- workspace ---------------------------------------------------------------------- */
+
+static size_t pow2_at_least(size_t n) {
+  size_t p = 1;
+  while (p < n) p <<= 1;
+  return p;
+}
+
+static unsigned log2_of(size_t n) {
+  unsigned k = 0;
+  while (((size_t)1 << k) < n) k++;
+  return k;
+}
+
+rp_iq_workspace *rp_iq_workspace_alloc(size_t max_pulses, rp_error *err) {
+  if (max_pulses < 2 || max_pulses > RP_IQ_MAX_PULSES) {
+    rp_error_set(err, RP_EINVAL, "I/Q workspace: max_pulses = %zu outside [2, %d]",
+                 max_pulses, RP_IQ_MAX_PULSES);
+    return NULL;
+  }
+  rp_iq_workspace *ws = calloc(1, sizeof *ws);
+  if (!ws) goto nomem;
+  ws->max_pulses = max_pulses;
+  ws->n_cap = pow2_at_least(16 * max_pulses);
+  if (ws->n_cap < 8192) ws->n_cap = 8192;
+  if (ws->n_cap > ((size_t)1 << RP_IQ_LOG2_CAP_MAX)) ws->n_cap = (size_t)1 << RP_IQ_LOG2_CAP_MAX;
+  ws->win_kind = -1;
+  ws->x = fftw_malloc(ws->n_cap * sizeof *ws->x);
+  ws->y = fftw_malloc(ws->n_cap * sizeof *ws->y);
+  ws->dens = malloc(ws->n_cap * sizeof *ws->dens);
+  ws->h = fftw_malloc(max_pulses * sizeof *ws->h);
+  ws->v = fftw_malloc(max_pulses * sizeof *ws->v);
+  ws->fx = fftw_malloc(max_pulses * sizeof *ws->fx);
+  ws->win = malloc(max_pulses * sizeof *ws->win);
+  ws->pgram = malloc(max_pulses * sizeof *ws->pgram);
+  if (!ws->x || !ws->y || !ws->dens || !ws->h || !ws->v || !ws->fx || !ws->win || !ws->pgram)
+    goto nomem;
+  return ws;
+nomem:
+  rp_iq_workspace_free(ws);
+  rp_error_set(err, RP_ENOMEM, "I/Q workspace for %zu pulses: out of memory", max_pulses);
+  return NULL;
+}
+
+void rp_iq_workspace_free(rp_iq_workspace *ws) {
+  if (!ws) return;
+  for (size_t i = 0; i <= RP_IQ_LOG2_CAP_MAX; i++) rp_fft_destroy(ws->inv[i]);
+  rp_fft_destroy(ws->fwd);
+  fftw_free(ws->x);
+  fftw_free(ws->y);
+  free(ws->dens);
+  fftw_free(ws->h);
+  fftw_free(ws->v);
+  fftw_free(ws->fx);
+  free(ws->win);
+  free(ws->pgram);
+  free(ws);
+}
+
+size_t rp_iq_workspace_max_pulses(const rp_iq_workspace *ws) { return ws ? ws->max_pulses : 0; }
+
+/* ---- model spectrum ----------------------------------------------------------------- */
+
+/* Component c of the model in normalised units: weight, frequency (cycles/pulse) and
+ * width (cycles/pulse). The Gaussian of p when spec is NULL. */
+static size_t n_components(const rp_iq_spectrum *spec) { return spec ? spec->n : 1; }
+
+static void component(const rp_iq_params *p, const rp_iq_spectrum *spec, size_t c, double va,
+                      double *w, double *f, double *s) {
+  if (!spec) {
+    *w = 1;
+    *f = p->velocity_m_s / (2 * va);
+    *s = p->width_m_s / (2 * va);
+  } else {
+    *w = spec->weight[c];
+    *f = spec->mean_m_s[c] / (2 * va);
+    *s = spec->width_m_s[c] / (2 * va);
+  }
+}
+
+/* x - round(x): into [-1/2, 1/2]. */
+static double wrap_unit(double x) { return x - floor(x + 0.5); }
+
+double complex rp_iq_autocorr(const rp_iq_params *p, const rp_iq_spectrum *spec, long k) {
+  const double va = rp_iq_nyquist_m_s(p->prt_s, p->wavelength_mm);
+  double complex r = 0;
+  double wsum = 0;
+  const double kk = (double)k;
+  for (size_t c = 0; c < n_components(spec); c++) {
+    double w, f, s;
+    component(p, spec, c, va, &w, &f, &s);
+    const double ph = TWO_PI * wrap_unit(f * kk);
+    r += w * exp(-0.5 * TWO_PI * TWO_PI * s * s * kk * kk) * cexp(IU * ph);
+    wsum += w;
+  }
+  return r / wsum;
+}
+
+void rp_iq_spectrum_moments(const rp_iq_params *p, const rp_iq_spectrum *spec,
+                            double *mean_m_s, double *width_m_s) {
+  const double va = rp_iq_nyquist_m_s(p->prt_s, p->wavelength_mm);
+  double mean;
+  if (!spec) {
+    mean = 2 * va * wrap_unit(p->velocity_m_s / (2 * va));
+    if (mean >= va) mean -= 2 * va;
+  } else {
+    const double complex r1 = rp_iq_autocorr(p, spec, 1);
+    mean = va / M_PI * carg(r1);
+    if (mean >= va) mean -= 2 * va;
+  }
+  if (mean_m_s) *mean_m_s = mean;
+  if (!width_m_s) return;
+  if (!spec) {
+    *width_m_s = p->width_m_s;
+    return;
+  }
+  double m2 = 0, wsum = 0;
+  for (size_t c = 0; c < spec->n; c++) {
+    const double w = spec->weight[c];
+    const double d = 2 * va * wrap_unit((spec->mean_m_s[c] - mean) / (2 * va));
+    m2 += w * (spec->width_m_s[c] * spec->width_m_s[c] + d * d);
+    wsum += w;
+  }
+  *width_m_s = sqrt(m2 / wsum);
+}
+
+/* Add weight a of a Gaussian of width s_bins (bins) centred at bin position mu (in
+ * [-n/2, n/2)) to dens[0..n), folded over the period n, as a density per bin. Lines
+ * (s_bins == 0) go to the nearest bin. */
+static void add_gaussian(double *dens, size_t n, double a, double mu, double s_bins) {
+  const double dn = (double)n;
+  if (s_bins <= 0) {
+    long j = lround(mu);
+    j %= (long)n;
+    if (j < 0) j += (long)n;
+    dens[j] += a;
+    return;
+  }
+  const double amp = a / (sqrt(TWO_PI) * s_bins);
+  const double reach = RP_IQ_TAIL_NSIGMA * s_bins;
+  if (mu == 0) {
+    /* Centred: g(k) = exp(-k^2 / (2 s^2)) by recurrence, folded onto k mod n. */
+    const double q = exp(-1.0 / (s_bins * s_bins));
+    double g = 1.0, ratio = exp(-0.5 / (s_bins * s_bins));
+    const size_t kmax = (size_t)reach + 1;
+    dens[0] += amp;
+    for (size_t k = 1; k <= kmax; k++) {
+      g *= ratio;     /* g = exp(-k^2/(2 s^2)) */
+      ratio *= q;
+      const size_t j = k % n;
+      dens[j] += amp * g;
+      dens[(n - j) % n] += amp * g;
+    }
+    return;
+  }
+  for (size_t j = 0; j < n; j++) {
+    double d = (double)j - mu;
+    d -= dn * floor(d / dn + 0.5);   /* into [-n/2, n/2] */
+    const double plo = ceil((-reach - d) / dn), phi = floor((reach - d) / dn);
+    double acc = 0;
+    for (double pp = plo; pp <= phi; pp += 1.0) {
+      const double x = (d + pp * dn) / s_bins;
+      acc += exp(-0.5 * x * x);
+    }
+    dens[j] += amp * acc;
+  }
+}
+
+void rp_iq_true_spectrum(const rp_iq_params *p, const rp_iq_spectrum *spec, double *out) {
+  const double va = rp_iq_nyquist_m_s(p->prt_s, p->wavelength_mm);
+  const size_t m = p->n_pulses;
+  const double dm = (double)m;
+  const double s_h = pow(10.0, p->snr_db / 10);
+  for (size_t k = 0; k < m; k++) out[k] = 0;
+  double wsum = 0;
+  for (size_t c = 0; c < n_components(spec); c++) {
+    double w, f, s;
+    component(p, spec, c, va, &w, &f, &s);
+    /* out holds density * (1/M) per bin: the weight falling in each bin */
+    /* narrower than half a bin: a line (point samples would not conserve its power) */
+    add_gaussian(out, m, w, wrap_unit(f) * dm, s * dm < 0.5 ? 0.0 : s * dm);
+    wsum += w;
+  }
+  for (size_t k = 0; k < m; k++) out[k] = s_h * out[k] / wsum * dm + 1.0;
+}
+
+/* ---- synthesis ---------------------------------------------------------------------- */
+
+static rp_status plan_for(rp_iq_workspace *ws, size_t n, fftw_plan *plan, rp_error *err) {
+  const unsigned l = log2_of(n);
+  if (!ws->inv[l]) {
+    ws->inv[l] = rp_fft_plan_1d((int)n, ws->x, ws->x, FFTW_BACKWARD);
+    if (!ws->inv[l])
+      return rp_error_set(err, RP_EFFTW, "FFTW could not plan an inverse transform of %zu "
+                          "points", n);
+  }
+  *plan = ws->inv[l];
+  return RP_OK;
+}
+
+static void fill_coefficients(fftw_complex *x, const double *dens, size_t n, double scale,
+                              rp_rng *rng) {
+  for (size_t j = 0; j < n; j++) {
+    const double a = sqrt(scale * dens[j]);
+    const double re = rp_rng_normal(rng), im = rp_rng_normal(rng);
+    x[j] = a * (re + IU * im);
+  }
+}
+
+rp_status rp_iq_synthesize(rp_iq_workspace *ws, const rp_iq_params *p,
+                           const rp_iq_spectrum *spec, rp_rng *rng, double complex *h,
+                           double complex *v, rp_error *err) {
+  if (!ws || !rng || !h || !v)
+    return rp_error_set(err, RP_EINVAL, "I/Q synthesis: NULL pointer");
+  RP_TRY(rp_iq_params_check(p, spec, err));
+  const size_t m = p->n_pulses;
+  if (m > ws->max_pulses)
+    return rp_error_set(err, RP_EINVAL, "I/Q synthesis: M = %zu pulses exceeds the "
+                        "workspace's %zu", m, ws->max_pulses);
+  const double va = rp_iq_nyquist_m_s(p->prt_s, p->wavelength_mm);
+  const size_t nc = n_components(spec);
+
+  /* shift frequency and the narrowest resolved width */
+  double fs;
+  if (!spec) {
+    fs = wrap_unit(p->velocity_m_s / (2 * va));
+  } else {
+    fs = carg(rp_iq_autocorr(p, spec, 1)) / TWO_PI;
+  }
+  const double line_sigma = RP_IQ_WRAP_NSIGMA / (double)ws->n_cap;
+  double smin = INFINITY;
+  for (size_t c = 0; c < nc; c++) {
+    double w, f, s;
+    component(p, spec, c, va, &w, &f, &s);
+    if (w > 0 && s >= line_sigma && s < smin) smin = s;
+  }
+  size_t n = pow2_at_least(m);
+  while (n < ws->n_cap && isfinite(smin) && (double)n * smin < RP_IQ_WRAP_NSIGMA) n <<= 1;
+  const double dn = (double)n;
+
+  double *dens = ws->dens;
+  for (size_t j = 0; j < n; j++) dens[j] = 0;
+  for (size_t c = 0; c < nc; c++) {
+    double w, f, s;
+    component(p, spec, c, va, &w, &f, &s);
+    if (!(w > 0)) continue;
+    const double mu = spec ? wrap_unit(f - fs) * dn : 0.0;
+    add_gaussian(dens, n, w, mu, s >= line_sigma ? s * dn : 0.0);
+  }
+  double dsum = 0;
+  for (size_t j = 0; j < n; j++) dsum += dens[j];
+
+  fftw_plan plan = NULL;
+  RP_TRY(plan_for(ws, n, &plan, err));
+  const double s_h = pow(10.0, p->snr_db / 10);
+  const double scale = 0.5 * s_h / dsum;   /* 0.5: variance of each of re, im */
+  const double rho = p->rhohv;
+  fill_coefficients(ws->x, dens, n, scale, rng);
+  fftw_execute_dft(plan, ws->x, ws->x);
+  if (rho < 1) {
+    fill_coefficients(ws->y, dens, n, scale, rng);
+    fftw_execute_dft(plan, ws->y, ws->y);
+  }
+
+  const double g = pow(10.0, -p->zdr_db / 20);
+  const double phi = p->phidp_deg * (M_PI / 180);
+  const double complex a_s = g * rho * cexp(-IU * phi);
+  const double b_w = g * sqrt(fmax(0.0, 1 - rho * rho));
+  const double sq_half = sqrt(0.5);
+  const double complex step = cexp(IU * TWO_PI * fs);
+  double complex ph = 1;
+  for (size_t k = 0; k < m; k++) {
+    if ((k & 63) == 0) ph = cexp(IU * TWO_PI * wrap_unit(fs * (double)k)); /* no drift */
+    const double complex s = ws->x[k] * ph;
+    const double complex w = rho < 1 ? ws->y[k] * ph : 0;
+    const double nh_re = rp_rng_normal(rng), nh_im = rp_rng_normal(rng);
+    const double nv_re = rp_rng_normal(rng), nv_im = rp_rng_normal(rng);
+    h[k] = s + sq_half * (nh_re + IU * nh_im);
+    v[k] = a_s * s + b_w * w + sq_half * (nv_re + IU * nv_im);
+    ph *= step;
+  }
+  return RP_OK;
+}
+
+/* ---- DSD spectrum ------------------------------------------------------------------- */
+
+rp_status rp_iq_dsd_spectrum(const rp_table *t, const rp_dsd *dsd, double elevation_deg,
+                             double u_radial_m_s, double turbulence_sd_m_s, double *weight,
+                             double *mean_m_s, double *width_m_s, rp_iq_spectrum *out,
+                             rp_error *err) {
+  if (!t || !dsd || !weight || !mean_m_s || !width_m_s || !out)
+    return rp_error_set(err, RP_EINVAL, "DSD Doppler spectrum: NULL pointer");
+  if (t->n < 2 || !t->d_mm || !t->back_hh2_mm2 || !t->fall_speed_m_s)
+    return rp_error_set(err, RP_EINVAL, "DSD Doppler spectrum: table has %zu diameters "
+                        "(need >= 2 with backscatter and fall speeds)", t->n);
+  if (bad(elevation_deg) || fabs(elevation_deg) > 90)
+    return rp_error_set(err, RP_EINVAL, "elevation = %g deg outside [-90, 90]", elevation_deg);
+  if (bad(u_radial_m_s))
+    return rp_error_set(err, RP_EINVAL, "radial wind = %g m/s must be finite", u_radial_m_s);
+  if (bad(turbulence_sd_m_s) || turbulence_sd_m_s < 0)
+    return rp_error_set(err, RP_EINVAL, "turbulence SD = %g m/s must be >= 0 and finite",
+                        turbulence_sd_m_s);
+  const double el = elevation_deg * (M_PI / 180);
+  const double ce = cos(el), se = sin(el);
+  double wsum = 0;
+  const size_t n = t->n;
+  for (size_t i = 0; i < n; i++) {
+    const double lo = i > 0 ? 0.5 * (t->d_mm[i] - t->d_mm[i - 1]) : 0;
+    const double hi = i + 1 < n ? 0.5 * (t->d_mm[i + 1] - t->d_mm[i]) : 0;
+    const double nd = rp_dsd_eval(dsd, t->d_mm[i]);
+    const double w = nd * t->back_hh2_mm2[i] * (lo + hi);
+    weight[i] = (isfinite(w) && w > 0) ? w : 0;
+    mean_m_s[i] = u_radial_m_s * ce - t->fall_speed_m_s[i] * se;
+    width_m_s[i] = turbulence_sd_m_s;
+    wsum += weight[i];
+  }
+  if (!(wsum > 0))
+    return rp_error_set(err, RP_EINVAL, "DSD Doppler spectrum: no backscatter from the DSD on "
+                        "the table's diameters %g-%g mm", t->d_mm[0], t->d_mm[n - 1]);
+  out->n = n;
+  out->weight = weight;
+  out->mean_m_s = mean_m_s;
+  out->width_m_s = width_m_s;
+  return RP_OK;
+}
