@@ -8,6 +8,7 @@
 #include <jansson.h>
 #include <stdio.h>
 
+#include "cli/opts.h"
 #include "rainprint/drop.h"
 #include "rainprint/dsd.h"
 #include "rainprint/status.h"
@@ -161,6 +162,41 @@ void rp_cli_dsd_release(rp_cli_dsd_built *b);
  * Returns the count, or -1 after printing a message. */
 int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const char **names,
                        int max);
+
+/* ---- the shared option tables of the framework (opts.h) ------------------------------ */
+
+/* --temperature, --shape, --axis-ratio, --canting-sd, --canting-model, --canting-approx,
+ * --elevation, --method (the scattering configuration without the band). */
+extern const rp_opts_spec rp_cli_scatter_opts[];
+/* --band B (one band) and --frequency GHZ. */
+extern const rp_opts_spec rp_cli_band_opts[];
+/* --band LIST (several bands, no band twice) and --frequency GHZ. */
+extern const rp_opts_spec rp_cli_bands_opts[];
+/* --json. */
+extern const rp_opts_spec rp_cli_json_opts[];
+/* The DSD options (--preset, --dsd, parameters, --spectrum, --row, --dmin, --dmax, --kw2,
+ * --height). */
+extern const rp_opts_spec rp_cli_dsd_opts[];
+/* Band names of the band table ("S", "C", "X", "Ku", "Ka"): resolver value = index. */
+rp_status rp_cli_band_resolve(const char *text, int *value, rp_error *err);
+extern const char *const rp_cli_band_names[];
+
+/* Fill s from parsed options (tables rp_cli_scatter_opts and one of the band tables, if
+ * the command has them; --json if present). Refuses conflicts (--band with --frequency,
+ * --axis-ratio with --shape, --method mie with a non-sphere) and checks the configuration
+ * (rp_drop_config_check). With a band list, cfg.freq_ghz is the first band's. 0 or an
+ * exit code after a message. */
+int rp_cli_scatter_from_opts(const rp_opts *o, rp_cli_scatter *s);
+/* The bands of --band LIST / --frequency (or default_list, e.g. "S,C,X"): up to max
+ * frequencies and band letters (NULL for an explicit frequency). Count, or -exit code. */
+int rp_cli_bands_from_opts(const rp_opts *o, const char *default_list, double *freqs,
+                           const char **names, int max);
+/* Fill d from parsed options of rp_cli_dsd_opts. 0 or an exit code. */
+int rp_cli_dsd_from_opts(const rp_opts *o, rp_cli_dsd *d);
+
+/* A file that could not be written: the one message every command gives,
+ * "could not write <what> 'path': <system reason>". Returns the exit code (1). */
+int rp_cli_write_failed(const char *cmd, const char *what, const char *path, int errnum);
 
 /* Commands. */
 int rp_cmd_drop(int argc, char **argv);

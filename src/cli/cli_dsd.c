@@ -287,3 +287,68 @@ int rp_cli_parse_bands(const char *cmd, const char *text, double *freqs, const c
   if (n == 0) rp_cli_fail(cmd, RP_EINVAL, "--band: empty list");
   return n > 0 ? n : -1;
 }
+
+/* ---- the DSD options as a table of the option framework --------------------------------- */
+
+static const char *const dsd_model_names[] = {"exponential", "marshall-palmer", "gamma",
+                                              "normalized-gamma"};
+
+/* Ranges: mu as dsd.h (RP_DSD_MU_MIN..MAX); truncation within the shape models' 10 mm
+ * (RP_DSD_D_LIMIT_MM); |K_w|^2 in (0, 1]; the other parameters are checked by the DSD
+ * constructors, which name the quantity. */
+const rp_opts_spec rp_cli_dsd_opts[] = {
+    RP_OPTS_STRING_ROW("preset", "NAME", "a named rain (rainprint presets lists them)"),
+    RP_OPTS_ENUM_ROW("dsd", "MODEL",
+                     "an analytic DSD: exponential (--n0, --lambda), marshall-palmer "
+                     "(--rain-rate), gamma (--n0, --mu, --lambda) or normalized-gamma (--nw, "
+                     "--mu, and --d0 or --dm)", dsd_model_names, NULL),
+    RP_OPTS_STRING_ROW("spectrum", "FILE.csv",
+                       "a measured spectrum (spectrum CSV format, docs/guide.md)"),
+    RP_OPTS_LONG_ROW("row", "N", "the data row of --spectrum to use, counted from 1", 1.0, 1e9,
+                     RP_OPTS_RANGED, "1"),
+    RP_OPTS_DOUBLE_ROW("n0", "X", "intercept N0 (m^-3 mm^-1-mu)", 0, 0, 0, NULL),
+    RP_OPTS_DOUBLE_ROW("lambda", "X", "slope Lambda (mm^-1)", 0, 0, 0, NULL),
+    RP_OPTS_DOUBLE_ROW("mu", "X", "shape parameter mu", RP_DSD_MU_MIN, RP_DSD_MU_MAX,
+                       RP_OPTS_RANGED, NULL),
+    RP_OPTS_DOUBLE_ROW("nw", "X", "normalised intercept Nw (m^-3 mm^-1)", 0, 0, 0, NULL),
+    RP_OPTS_DOUBLE_ROW("d0", "MM", "median-volume diameter", 0.0, RP_DSD_D_LIMIT_MM,
+                       RP_OPTS_RANGED | RP_OPTS_LO_OPEN, NULL),
+    RP_OPTS_DOUBLE_ROW("dm", "MM", "mass-weighted mean diameter", 0.0, RP_DSD_D_LIMIT_MM,
+                       RP_OPTS_RANGED | RP_OPTS_LO_OPEN, NULL),
+    RP_OPTS_DOUBLE_ROW("rain-rate", "MM_H", "rain rate for marshall-palmer", 0, 0, 0, NULL),
+    RP_OPTS_DOUBLE_ROW("dmin", "MM", "smallest diameter of an analytic DSD", 0.0,
+                       RP_DSD_D_LIMIT_MM, RP_OPTS_RANGED | RP_OPTS_LO_OPEN,
+                       "the preset's, else 0.1"),
+    RP_OPTS_DOUBLE_ROW("dmax", "MM", "largest diameter of an analytic DSD", 0.0,
+                       RP_DSD_D_LIMIT_MM, RP_OPTS_RANGED | RP_OPTS_LO_OPEN,
+                       "the preset's, else 8"),
+    RP_OPTS_DOUBLE_ROW("kw2", "X", "|K_w|^2 used to form Z", 0.0, 1.0,
+                       RP_OPTS_RANGED | RP_OPTS_LO_OPEN, "0.93"),
+    RP_OPTS_DOUBLE_ROW("height", "KM",
+                       "correct fall speeds (rain rate) to the air density of the standard "
+                       "atmosphere at this height above sea level", 0.0,
+                       RP_FALLSPEED_HEIGHT_MAX_KM, RP_OPTS_RANGED, "none"),
+    RP_OPTS_END};
+
+int rp_cli_dsd_from_opts(const rp_opts *o, rp_cli_dsd *d) {
+  rp_cli_dsd_init(d);
+  int rc;
+  if ((rc = rp_opts_exclusive(o, "preset", "dsd", "spectrum", (const char *)NULL))) return rc;
+  d->preset = rp_opts_string(o, "preset", NULL);
+  d->spectrum = rp_opts_string(o, "spectrum", NULL);
+  if (rp_opts_given(o, "dsd")) d->model = dsd_model_names[rp_opts_enum(o, "dsd", 0)];
+  d->row = rp_opts_long(o, "row", 1);
+  if ((rc = rp_opts_requires(o, "row", "spectrum"))) return rc;
+  d->dmin = rp_opts_double(o, "dmin", NAN);
+  d->dmax = rp_opts_double(o, "dmax", NAN);
+  d->kw2 = rp_opts_double(o, "kw2", RP_KW2_DEFAULT);
+  d->height_km = rp_opts_double(o, "height", NAN);
+  static const char *const params[] = {"n0", "lambda", "mu", "nw", "d0", "dm", "rain-rate"};
+  double *slots[] = {&d->n0, &d->lambda, &d->mu, &d->nw, &d->d0, &d->dm, &d->rain_rate};
+  for (int i = 0; i < 7; i++)
+    if (rp_opts_given(o, params[i])) {
+      *slots[i] = rp_opts_double(o, params[i], 0.0);
+      d->given |= 1u << i;
+    }
+  return 0;
+}

@@ -6,19 +6,20 @@
 #include "cli/cli.h"
 #include "rainprint/shape.h"
 
-static const char drop_help[] =
-    "Usage: rainprint drop --diameter MM [options]\n"
-    "\n"
-    "Scattering of one raindrop: backscatter and forward amplitudes at the mean\n"
-    "orientation, and cross-sections averaged over the canting distribution.\n"
-    "\n"
-    "  --diameter MM          equal-volume diameter, (0, 10] mm (required)\n"
-    "%s"
-    "\n"
-    "Example:\n"
-    "  rainprint drop --diameter 4 --band X --temperature 15 --json\n";
+static const rp_opts_spec drop_opts[] = {
+    RP_OPTS_DOUBLE_ROW("diameter", "MM", "equal-volume diameter (required)", 0.0,
+                       RP_SHAPE_D_MAX_MM, RP_OPTS_RANGED | RP_OPTS_LO_OPEN, NULL),
+    RP_OPTS_END};
 
-enum { OPT_DIAMETER = RP_OPT_FIRST_FREE };
+static const rp_opts_command drop_cmd = {
+    .cmd = "drop",
+    .usage = "drop --diameter MM [options]",
+    .about = "Scattering of one raindrop: backscatter and forward amplitudes at the mean\n"
+             "orientation, and cross-sections averaged over the canting distribution.",
+    .examples = "  rainprint drop --diameter 4 --band X --temperature 15 --json",
+    .tables = {drop_opts, rp_cli_band_opts, rp_cli_scatter_opts, rp_cli_json_opts},
+    .titles = {"Drop", "Band", "Scattering", "Output"},
+};
 
 static void print_complex(const char *label, double complex z, const char *unit) {
   printf("  %-26s %+.6e %+.6ei %s\n", label, creal(z), cimag(z), unit);
@@ -89,36 +90,13 @@ static int print_json(const rp_cli_scatter *s, const rp_drop_result *r) {
 }
 
 int rp_cmd_drop(int argc, char **argv) {
-  static const struct option longopts[] = {
-      RP_CLI_SCATTER_LONGOPTS, {"diameter", required_argument, NULL, OPT_DIAMETER}, {0, 0, 0, 0}};
+  rp_opts o;
+  int rc = rp_opts_parse(&drop_cmd, argc, argv, &o);
+  if (rc != RP_OPTS_GO_ON) return rc;
+  if ((rc = rp_opts_required(&o, "diameter"))) return rc;
+  const double d_mm = rp_opts_double(&o, "diameter", NAN);
   rp_cli_scatter s;
-  rp_cli_scatter_init(&s);
-  double d_mm = NAN;
-  int have_d = 0, code;
-  optind = 1;
-  opterr = 0;
-  while ((code = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
-    if (code == '?' || code == ':')
-      return rp_cli_fail("drop", RP_EINVAL, "unknown or incomplete option '%s' (see --help)",
-                         argv[optind - 1]);
-    if (code == OPT_DIAMETER) {
-      if (rp_cli_parse_double("drop", "diameter", optarg, &d_mm)) return RP_EXIT_USAGE;
-      have_d = 1;
-      continue;
-    }
-    const int h = rp_cli_scatter_option("drop", &s, code, optarg);
-    if (h < 0) return -h;
-  }
-  if (s.help) {
-    printf(drop_help, rp_cli_scatter_help);
-    return RP_EXIT_OK;
-  }
-  if (optind < argc) return rp_cli_fail("drop", RP_EINVAL, "unexpected argument '%s'", argv[optind]);
-  if (!have_d) return rp_cli_fail("drop", RP_EINVAL, "--diameter is required (see --help)");
-  if (!(d_mm > 0.0 && d_mm <= 10.0))
-    return rp_cli_fail("drop", RP_EDOM, "--diameter %g mm outside (0, 10] mm", d_mm);
-  const int fin = rp_cli_scatter_finish("drop", &s);
-  if (fin) return fin;
+  if ((rc = rp_cli_scatter_from_opts(&o, &s))) return rc;
 
   rp_drop_ws *ws = rp_drop_ws_alloc(&s.cfg);
   if (ws == NULL) return rp_cli_fail("drop", RP_ENOMEM, "out of memory");
