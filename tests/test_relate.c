@@ -370,19 +370,29 @@ static void test_relate_r_zh_inversion_and_direct_fit_identity(void **state) {
   free(s);
 }
 
+/* Fixed-seed uniform numbers in [0, 1) for a test population (an LCG of Knuth's MMIX
+ * constants: reproducible on every platform). */
+static double lcg_uniform(unsigned long long *st) {
+  *st = *st * 6364136223846793005ull + 1442695040888963407ull;
+  return (double)(*st >> 11) * (1.0 / 9007199254740992.0);
+}
+
 static void test_relate_s_band_r_kdp_near_sachidananda_zrnic(void **state) {
   (void)state;
   /* Sachidananda & Zrnic (1987, J. Atmos. Oceanic Technol. 4, 588-598): R = 40.5 KDP^0.85
-   * at S band (coefficients and paper details from memory:
-   * equilibrium shapes of Pruppacher & Beard, no canting, gamma DSDs). We use their shape
-   * assumptions (Pruppacher-Beard, canting 0) with our default ensemble (mixed, 5000,
-   * seed 1), 10 C, T-matrix. Tolerances: a within +-25 %, b within +-0.15, and R from
-   * both relations within 25 % for KDP in [0.3, 3] deg/km (the two coefficients are
-   * correlated, so the curves are the fairer comparison). The ensemble, its mu spread
-   * N(3, 2) and the KDP range differ from theirs; the exponent is the most sensitive to
-   * that (measured here: a = 40.3, b = 0.955). */
+   * at S band, fitted to one broad continuous population of gamma DSDs with equilibrium
+   * (Pruppacher-Beard) shapes and no canting (from memory: the population was not found
+   * in citable material). Like for like: Pruppacher-Beard shapes in their continuous
+   * form (the line down to r = 1), no canting, 10 C, T-matrix, and one broad population
+   * drawn uniformly (fixed seed): D0 0.5-2.5 mm, mu -1..4, log10 Nw 3-4.5 (the ranges
+   * are ours, chosen to span moderate to heavy rain as such studies do). Tolerances: b
+   * within +-0.07, just under half the gap between 0.85 and 1 (0.075), so that b = 1
+   * (R proportional to KDP) fails while the spread that a population from memory
+   * allows passes; a within +-15 %, and R from both relations within 15 % for KDP in
+   * [0.3, 3] deg/km. Measured (RP_TEST_VERBOSE=1): a = 38.2, b = 0.902. The former
+   * check (the project's mixed ensemble, +-0.15 on b) accepted b = 1. */
   rp_drop_config cfg = band_cfg("S");
-  cfg.shape = RP_SHAPE_PRUPPACHER_BEARD;
+  cfg.shape = RP_SHAPE_PRUPPACHER_BEARD_LINEAR;
   cfg.canting_sd_deg = 0.0;
   rp_table *t = NULL;
   rp_gate_plan *p = NULL;
@@ -393,10 +403,18 @@ static void test_relate_s_band_r_kdp_near_sachidananda_zrnic(void **state) {
     fail_msg("table: %s", e.msg);
   assert_int_equal(rp_gate_plan_alloc(t, 0.1, 8.0, RP_KW2_DEFAULT, &p, &e), RP_OK);
   assert_int_equal(rp_gate_fast_alloc(p, &fa, &e), RP_OK);
-  const size_t n = RP_ENSEMBLE_SIZE_DEFAULT;
+  const size_t n = 4000;
   rp_ensemble_member *m = calloc(n, sizeof *m);
   rp_relate_sample *s = calloc(n, sizeof *s);
-  assert_int_equal(rp_ensemble_draw(&mixed, n, 1, m, NULL), RP_OK);
+  assert_non_null(m);
+  assert_non_null(s);
+  unsigned long long st = 1987u;
+  for (size_t i = 0; i < n; i++) {
+    m[i].d0_mm = 0.5 + 2.0 * lcg_uniform(&st);
+    m[i].mu = -1.0 + 5.0 * lcg_uniform(&st);
+    m[i].log10_nw = 3.0 + 1.5 * lcg_uniform(&st);
+    m[i].cluster = 0;
+  }
   assert_int_equal(rp_relate_ensemble_eval(p, fa, m, n, s, NULL, &e), RP_OK);
   rp_relate_options o;
   rp_relate_options_default(&o);
@@ -404,18 +422,11 @@ static void test_relate_s_band_r_kdp_near_sachidananda_zrnic(void **state) {
   rp_relate_fit f;
   size_t nf = 0;
   assert_int_equal(rp_relate_fit_eval(s, n, &o, &f, &nf, &e), RP_OK);
-  assert_close(f.fit.a, 40.5, 0.25, 0.0);
-  assert_close(f.fit.b, 0.85, 0.0, 0.15);
+  if (getenv("RP_TEST_VERBOSE")) printf("R(KDP): a = %.2f, b = %.3f\n", f.fit.a, f.fit.b);
+  assert_close(f.fit.a, 40.5, 0.15, 0.0);
+  assert_close(f.fit.b, 0.85, 0.0, 0.07);
   for (double kdp = 0.3; kdp <= 3.0001; kdp *= 1.2)
-    assert_close(rp_fit_power_eval(&f.fit, kdp, NAN), 40.5 * pow(kdp, 0.85), 0.25, 0.0);
-  /* the default Thurai shapes are less oblate than the Pruppacher-Beard line for most
-   * rain drops, and the default 7 deg canting lowers KDP: less KDP per rain, so a larger
-   * prefactor (measured 51.8) */
-  rp_relate_sample *sd = ensemble(S, n, 1, NULL);
-  rp_relate_fit fd;
-  assert_int_equal(rp_relate_fit_eval(sd, n, &o, &fd, &nf, &e), RP_OK);
-  assert_true(fd.fit.a > f.fit.a);
-  free(sd);
+    assert_close(rp_fit_power_eval(&f.fit, kdp, NAN), 40.5 * pow(kdp, 0.85), 0.15, 0.0);
   free(m);
   free(s);
   rp_gate_fast_free(fa);
