@@ -176,14 +176,9 @@ rp_status rp_figure_axis_range(double data_lo, double data_hi, int is_log, doubl
   return RP_OK;
 }
 
-/* The smallest step of 1, 2 or 5 x 10^k with at most max_ticks multiples in a span. */
-static double nice_step(double span, int max_ticks) {
-  double raw = span / (double)(max_ticks - 1);
-  double e = pow(10.0, floor(log10(raw)));
-  static const double m[] = {1.0, 2.0, 5.0, 10.0};
-  for (int i = 0; i < 4; i++)
-    if (m[i] * e >= raw * (1.0 - 1e-9)) return m[i] * e;
-  return 10.0 * e;
+/* Count of multiples of step in [lo, hi]. */
+static double multiples_in(double lo, double hi, double step) {
+  return floor(hi / step + 1e-9) - ceil(lo / step - 1e-9) + 1.0;
 }
 
 /* Decimals needed to write v exactly (at most 6). */
@@ -195,15 +190,30 @@ static int decimals_of(double v) {
   return 7;
 }
 
+/* Linear ticks: the smallest step of 1, 2, 2.5 or 5 x 10^k with at most max_ticks
+ * multiples in [lo, hi]; when that leaves fewer than 2, the two ends rounded inwards to a
+ * tenth of the span's decade. */
 static size_t linear_ticks(double lo, double hi, int max_ticks, double *v, double *step) {
-  double s = nice_step(hi - lo, max_ticks);
-  double first = ceil(lo / s - 1e-9) * s;
+  static const double m[] = {1.0, 2.0, 2.5, 5.0};
+  double e = pow(10.0, floor(log10((hi - lo) / (double)max_ticks)) - 1.0);
+  double s = 0.0;
+  for (int it = 0; it < 40 && s == 0.0; it++, e *= 10.0)
+    for (int i = 0; i < 4; i++)
+      if (multiples_in(lo, hi, m[i] * e) <= (double)max_ticks) { s = m[i] * e; break; }
   size_t n = 0;
-  for (int k = 0; k < RP_FIGURE_MAX_TICKS + 2 && n < RP_FIGURE_MAX_TICKS; k++) {
-    double x = first + k * s;
-    if (x > hi + 1e-9 * s) break;
-    if (fabs(x) < 1e-9 * s) x = 0.0; /* no "-0" */
-    v[n++] = x;
+  if (s > 0.0 && multiples_in(lo, hi, s) >= 2.0) {
+    double first = ceil(lo / s - 1e-9) * s;
+    for (int k = 0; k < RP_FIGURE_MAX_TICKS && n < RP_FIGURE_MAX_TICKS; k++) {
+      double x = first + k * s;
+      if (x > hi + 1e-9 * s) break;
+      if (fabs(x) < 1e-9 * s) x = 0.0; /* no "-0" */
+      v[n++] = x;
+    }
+  } else {
+    s = pow(10.0, floor(log10(hi - lo)) - 1.0);
+    v[0] = ceil(lo / s - 1e-9) * s;
+    v[1] = floor(hi / s + 1e-9) * s;
+    n = 2;
   }
   *step = s;
   return n;
@@ -281,7 +291,7 @@ rp_status rp_figure_axis_ticks(double lo, double hi, int is_log, int max_ticks,
     int d = decimals_of(v[i]);
     if (d > dmax) dmax = d;
   }
-  if (common_decimals && step > 0.0) dmax = (int)fmax(0.0, -floor(log10(step) + 1e-9));
+  if (common_decimals && step > 0.0) dmax = decimals_of(step);
   out->powers = !(amax < 1e5 && dmax <= 4);
   int e_common = amax > 0.0 ? (int)floor(log10(amax) + 1e-9) : 0;
   for (size_t i = 0; i < out->n; i++) {
@@ -292,7 +302,7 @@ rp_status rp_figure_axis_ticks(double lo, double hi, int is_log, int max_ticks,
     } else if (v[i] == 0.0) {
       snprintf(lab, L, "0");
     } else if (common_decimals) {
-      int dec = (int)fmax(0.0, (double)e_common - floor(log10(step) + 1e-9));
+      int dec = decimals_of(step / pow(10.0, e_common));
       if (dec > 6) dec = 6;
       snprintf(lab, L, "%.*f×10#u%d#d", dec, v[i] / pow(10.0, e_common), e_common);
     } else {
