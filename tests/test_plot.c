@@ -1,6 +1,7 @@
-/* test_plot.c — pictures: files are written whole, in the asked format and size, or not
- * at all; bad input is refused with the right status; the colour maps keep the
- * properties the docs claim for them.
+/* test_plot.c — the first picture API (plot.h, now drawn through figure.h): files are
+ * written whole, in the asked format and size, or not at all; bad input is refused with
+ * the right status; the colour maps keep the properties the docs claim for them. The
+ * figure API itself is tested in test_figure.c.
  *
  * Each test works in its own fresh folder under the build directory (RP_BINARY_DIR,
  * else /tmp), and checks at the end that nothing but the expected files is left there
@@ -582,9 +583,8 @@ static void cmap_lab(int cmap, int k, double lab[3]) {
 static void test_sequential_map_ends_and_rising_lightness(void **state) {
   (void)state;
   unsigned char rgb[3];
-  /* End colours of viridis, #440154 and #FDE725: the anchors listed in the project's
-   * dependency notes (/work/shared/deps.md §PLplot), which match matplotlib's viridis
-   * table (van der Walt & Smith 2015) from memory. Exact: they are the anchors. */
+  /* End colours of viridis, #440154 and #FDE725: the ends of matplotlib's viridis table
+   * (van der Walt & Smith 2015), values from memory. Exact: they are our anchors. */
   assert_int_equal(rp_plot_colormap_rgb(RP_PLOT_CMAP_SEQUENTIAL, 0.0, rgb, NULL), RP_OK);
   assert_int_equal(rgb[0], 0x44);
   assert_int_equal(rgb[1], 0x01);

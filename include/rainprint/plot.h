@@ -1,5 +1,7 @@
-/* plot.h — pictures: multi-panel line/scatter figures and polar (PPI) fields, written
- * as PNG, SVG or PDF through PLplot's cairo drivers.
+/* plot.h — pictures, first API: multi-panel line/scatter figures and polar (PPI) fields,
+ * written as PNG, SVG or PDF through PLplot's cairo drivers. Kept for the tool's commands;
+ * both functions are drawn through the figure API (figure.h), which new code should use
+ * (it adds scatter density, RHI, subtitles, draw-then-commit).
  *
  * Colours are rainprint's own choice (docs/method.md §11):
  *   - series: the Okabe–Ito colour-blind-safe palette (Okabe & Ito 2008), each series
@@ -9,8 +11,12 @@
  *   - diverging fields: a blue–grey–red map interpolated linearly in CIELAB (CIE 15),
  *     so equal steps in value are equal colour differences (CIE76 ΔE) on each arm.
  *
- * Output files are written whole or not at all: the figure is drawn to a temporary file
- * created in the destination folder and renamed over the destination at the end.
+ * Output files are written whole or not at all, as in figure.h: drawn to a temporary
+ * file in the destination's folder, checked complete after PLplot closed it (a failed
+ * write, e.g. a full disk, is RP_EIO with the system's reason), then renamed; '%' in a
+ * name is literal, a symlink is written through, an existing file keeps its mode. Axis
+ * ranges follow the data (log axes are not rounded out to decades) and legends go in
+ * the emptiest inside corner or below the panel.
  *
  * Text (titles, axis labels, legend labels) may use PLplot's escapes: "#u"/"#d" for
  * super/subscript ("Z#dDR#u (dB)", "km#u-1#d"), "#g" for Greek ("#gr#dhv#u"), and UTF-8
@@ -77,11 +83,12 @@ typedef struct {
  *              panels that do not fit the page, unknown extension, NULL data with
  *              n > 0, a bad style, an infinite coordinate, a non-positive finite value
  *              on a log axis, log_x != log_y on a 1:1 panel;
- *   RP_EIO     the temporary file cannot be created (e.g. the folder does not exist) or
- *              cannot be renamed; nothing is left behind;
+ *   RP_EIO     the temporary file cannot be created (e.g. the folder does not exist),
+ *              a write failed (system's reason in the message) or the rename failed;
+ *              nothing is left behind;
  *   RP_ENOMEM  out of memory;
- *   RP_EPLOT   PLplot lacks the cairo device, has no free stream, or wrote an empty
- *              file; nothing is left behind.
+ *   RP_EPLOT   PLplot lacks the cairo device, has no free stream, or wrote an
+ *              incomplete file; nothing is left behind.
  * The caller keeps ownership of everything passed in. Not re-entrant (see above). */
 rp_status rp_plot_panels(const char *path, const rp_plot_panel *panels, size_t n_panels,
                          int ncols, int width_px, int height_px, rp_error *err);
