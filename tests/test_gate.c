@@ -1062,8 +1062,9 @@ static void test_fast_matches_direct_over_whole_grid(void **state) {
   (void)state;
   /* Over the whole (D0, mu) domain, edges included, on a 91 x 53 lattice that is not
    * aligned with the fast path's nodes: within 0.02 dB (Z_h, Z_v, ZDR) and 0.5 %
-   * (K_DP, A_H, A_DP) of rp_gate_eval, the targets of the design. rho_hv, delta_hv and
-   * LDR have no stated target; they are held to 1e-4, 0.01 deg and 0.02 dB. */
+   * (K_DP, A_H, A_DP) of rp_gate_eval, the targets of the design. rho_hv is held to the
+   * integrator's own acceptance, 1e-5 (measured 1.5e-6 with ln(1 - rho) interpolated);
+   * delta_hv and LDR to 0.01 deg and 0.02 dB (measured LDR 7e-4 dB). */
   const rp_table *tabs[3] = {tm_s, tm_c, tm_x};
   const double nws[3] = {1.0, 8000.0, 3e5};
   for (int b = 0; b < 3; b++) {
@@ -1071,7 +1072,7 @@ static void test_fast_matches_direct_over_whole_grid(void **state) {
     rp_gate_fast *f = NULL;
     rp_error e = {0};
     if (rp_gate_fast_alloc(p, &f, &e) != RP_OK) fail_msg("fast: %s", e.msg);
-    double worst_z = 0.0, worst_rel = 0.0;
+    double worst_z = 0.0, worst_rel = 0.0, worst_rho = 0.0, worst_ldr = 0.0;
     const double x0 = log(RP_GATE_FAST_D0_MIN_MM), x1 = log(RP_GATE_FAST_D0_MAX_MM);
     for (int i = 0; i <= 90; i++)
       for (int j = 0; j <= 52; j++) {
@@ -1090,12 +1091,17 @@ static void test_fast_matches_direct_over_whole_grid(void **state) {
         assert_close(q.ah_db_km, a.ah_db_km, 5e-3, 0.0);
         assert_close(q.adp_db_km, a.adp_db_km, 5e-3, 0.0);
         assert_close(q.av_db_km, a.av_db_km, 5e-3, 0.0);
-        assert_close(q.rhohv, a.rhohv, 0.0, 1e-4);
+        assert_close(q.rhohv, a.rhohv, 0.0, 1e-5);
         assert_close(q.delta_hv_deg, a.delta_hv_deg, 0.0, 0.01);
         assert_close(q.ldr_db, a.ldr_db, 0.0, 0.02);
         worst_z = fmax(worst_z, fabs(q.zh_dbz - a.zh_dbz));
         worst_rel = fmax(worst_rel, fabs(q.kdp_deg_km / a.kdp_deg_km - 1.0));
+        worst_rho = fmax(worst_rho, fabs(q.rhohv - a.rhohv));
+        worst_ldr = fmax(worst_ldr, fabs(q.ldr_db - a.ldr_db));
       }
+    if (getenv("RP_TEST_VERBOSE"))
+      printf("fast, band %d: Z %.2e dB, K_DP %.2e, rho_hv %.2e, LDR %.2e dB\n", b, worst_z,
+             worst_rel, worst_rho, worst_ldr);
     /* the errors are not zero everywhere (the comparison is not with itself) */
     assert_true(worst_z > 0.0 && worst_rel > 0.0);
     rp_gate_fast_free(f);

@@ -70,11 +70,18 @@ rp_status rp_gate_result_from_linear(const rp_gate_linear *lin, rp_gate_result *
                                      rp_error *err);
 
 /* A quadrature plan: Gauss–Legendre nodes and weights over [dmin_mm, dmax_mm] (the
- * plan's truncation), nodes_per_interval points in every table interval it overlaps,
- * with the table's quantities interpolated at the nodes once (natural cubic splines,
- * GSL, through q/D^6 for the backscatter moments and q/D^3 for the forward amplitudes:
- * the Rayleigh scaling, so the splines interpolate slowly varying functions), the
- * unit constants folded in, the wavelength and |K_w|^2 = kw2.
+ * plan's truncation), nodes_per_interval points in every quadrature interval, with the
+ * table's quantities interpolated at the nodes once, the unit constants folded in, the
+ * wavelength and |K_w|^2 = kw2. When the table's cfg names its shape model, the table
+ * is split at the model's breakpoints (rp_shape_breakpoints: jumps and kinks of r(D))
+ * into smooth pieces; each piece has its own cubic splines (not-a-knot; 1-3 knots:
+ * constant, line, parabola) through q/D^6 for the backscatter moments and q/D^3 for
+ * the forward amplitudes (the Rayleigh scaling, so the splines interpolate slowly
+ * varying functions), quadrature intervals lie inside the pieces and every node is
+ * evaluated with its own piece; a piece without a knot at its breakpoint is
+ * extrapolated to it. At every node the backscatter moments are made consistent
+ * (powers >= 0, |<f_hh f_vv*>| <= sqrt(<|f_hh|^2><|f_vv|^2>)), so rho_hv <= 1 holds
+ * for every DSD up to round-off. Details in docs/method.md §8.
  * Opaque; read-only after allocation, so one plan may be shared by threads. */
 typedef struct rp_gate_plan rp_gate_plan;
 
@@ -88,7 +95,7 @@ typedef struct rp_gate_plan rp_gate_plan;
  *              names both ranges), kw2 not in (0, 1];
  *   RP_ETABLE  fewer than 3 diameters, diameters not strictly increasing and > 0, a
  *              non-finite value, a negative second moment, or a bad wavelength;
- *   RP_EGSL    a GSL spline failed;  RP_ENOMEM. */
+ *   RP_ENOMEM. */
 rp_status rp_gate_plan_alloc(const rp_table *t, double dmin_mm, double dmax_mm, double kw2,
                              rp_gate_plan **out, rp_error *err);
 
@@ -107,8 +114,9 @@ double rp_gate_plan_kw2(const rp_gate_plan *p);
 size_t rp_gate_plan_nodes(const rp_gate_plan *p);
 /* 1 when the plan interpolates K_DP, A_DP and Z_h - Z_v as q / (1 - r(D)) with the
  * table's shape model (the table's cfg names a shape, or a fixed axis ratio, that
- * reproduces its axis_ratio column within 1e-9, and some diameter is not spherical);
- * 0 when it falls back to the plain D^p scaling (e.g. a hand-made table). */
+ * reproduces its axis_ratio column within 1e-9, and some diameter is not spherical)
+ * and splits the table at the model's breakpoints; 0 when it falls back to the plain
+ * D^p scaling and one piece (e.g. a hand-made table). */
 int rp_gate_plan_uses_shape(const rp_gate_plan *p);
 
 /* Linear integrals of DSD d (see rp_gate_linear).
@@ -138,9 +146,10 @@ rp_status rp_gate_eval(const rp_gate_plan *p, const rp_dsd *d, rp_gate_result *o
  * (ln D0, mu) covering [RP_GATE_FAST_D0_MIN_MM, RP_GATE_FAST_D0_MAX_MM] x
  * [RP_GATE_FAST_MU_MIN, RP_GATE_FAST_MU_MAX], with their exact derivatives
  * d/d ln D0, d/d mu and d2/(d ln D0 d mu) (differentiating N(D) under the sum), and
- * interpolated by bicubic Hermite patches: ln Z_h, ln(Z_h/Z_v), ln(zhv/Z_h), rho_hv,
- * delta_hv and, for K_DP, A_H, A_DP, the logarithm when positive at every grid node
- * (else the value times D0^-5). Extensive results are then scaled by Nw. Agreement
+ * interpolated by bicubic Hermite patches: ln Z_h, ln(Z_h/Z_v), ln(zhv/Z_h),
+ * ln(1 - rho_hv) (so rho_hv = 1 - exp(.) <= 1; when 1 - rho_hv is not > 0 at every
+ * node, e.g. spheres, rho_hv itself, clipped to 1), delta_hv and, for K_DP, A_H, A_DP,
+ * the logarithm when positive at every grid node (else the value times D0^-5). Extensive results are then scaled by Nw. Agreement
  * with rp_gate_eval is checked over the whole grid in tests/test_gate.c. Opaque,
  * read-only after allocation (thread-safe to share); independent of p after return. */
 typedef struct rp_gate_fast rp_gate_fast;

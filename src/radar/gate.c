@@ -5,26 +5,31 @@
  * Method (formulas in include/rainprint/gate.h; Bringi & Chandrasekar 2001, ch. 3
  * (reflectivity factors, rho_hv, delta_hv, LDR) and ch. 7 (K_DP, A_H, A_DP); the unit
  * arithmetic is in docs/method.md §8):
- *  - Plan: the table's quantities q_j(D_i) are divided by the Rayleigh power of D
- *    (D^6 for backscatter second moments, D^3 for forward amplitudes) and put through
- *    natural cubic splines (GSL). Gauss–Legendre rules with m nodes per table interval
- *    cover [dmin, dmax]; at each node D_k the plan stores w_k c_j q_j(D_k), with c_j the
- *    unit constant that turns <q_j> into the output field (Z factor 4 lambda^4 /
+ *  - Plan: the table is split at the breakpoints of its shape model (jumps and kinks of
+ *    r(D); rp_shape_breakpoints) into smooth pieces. In each piece the quantities
+ *    q_j(D_i) are divided by the Rayleigh power of D (D^6 for backscatter second
+ *    moments, D^3 for forward amplitudes; and by 1 - r(D) for those that vanish for a
+ *    sphere) and put through not-a-knot cubic splines of the piece's own knots (de Boor
+ *    1978, ch. IV). Gauss–Legendre rules with m nodes per interval cover [dmin, dmax]
+ *    inside the pieces; at each node D_k (evaluated with its own piece, the moments
+ *    made to obey Cauchy–Schwarz) the plan stores w_k c_j q_j(D_k), with c_j the unit
+ *    constant that turns <q_j> into the output field (Z factor 4 lambda^4 /
  *    (pi^4 |K_w|^2), K_DP factor (180/pi) 1e-3 lambda, attenuation factor
  *    (20/ln 10) 1e-3 lambda).
  *  - Analytic DSD: sum_k exp(ln N0 + mu ln D_k - Lambda D_k) (w_k c_j q_j(D_k)).
  *  - Spectrum: N_i times the integral of the spline interpolant over each bin
- *    (5-point Gauss–Legendre on each spline piece: exact for D^6 times a cubic, a
+ *    (5-point Gauss–Legendre between knots and breakpoints: exact for D^6 times a cubic, a
  *    polynomial of degree 9; nearly so with the (1 - r) factor). Below the table's
  *    smallest diameter, q(D) = q(D_min) (D/D_min)^p, integrated in closed form.
  *  - Fast path: a uniform grid over (x = ln D0, mu) of the Nw = 1 integrals of the
  *    normalised gamma DSD (Bringi et al. 2003 form, c = 3.67) with their exact partial
  *    derivatives (N(D) differentiated under the sum), turned into smooth fields
- *    (logarithms, ratios) by forward-mode second-order "jets", then bicubic Hermite
- *    patches, coefficients precomputed per cell.
+ *    (logarithms, ratios, ln(1 - rho_hv)) by forward-mode second-order "jets", then
+ *    bicubic Hermite patches, coefficients precomputed per cell.
  * Invariants: plans and fast grids are read-only after allocation (thread-safe to
- * share); evaluation never allocates (spectra use the stored splines, which GSL
- * evaluates without an accelerator). */
+ * share); evaluation never allocates (spectra use the stored spline coefficients);
+ * nothing is interpolated across a shape breakpoint; rho_hv <= 1 up to round-off in
+ * both paths. */
 #include "rainprint/gate.h"
 
 #include <math.h>
