@@ -1,0 +1,434 @@
+/* test_volume.c — volume synthesis with a hand-made evaluator (so that the checks
+ * isolate the volume's own rules), the fall-speed moments, noise formulas, folding,
+ * determinism and bad scenarios; score statistics. */
+#include "rp_test.h"
+
+#include <string.h>
+
+#include "rainprint/dsd.h"
+#include "rainprint/fallmoments.h"
+#include "rainprint/fallspeed.h"
+#include "rainprint/rng.h"
+#include "rainprint/score.h"
+#include "rainprint/scenario.h"
+#include "rainprint/table.h"
+#include "rainprint/volume.h"
+
+/* Hand-made linear integrals: smooth in (Nw, D0), with K, A, ADP and delta_hv > 0, so
+ * that the propagation identities are exercised; values of the order of C-band rain. */
+static rp_status fake_eval(const void *ctx, size_t sweep, double temp_c, double nw,
+                           double d0, double mu, rp_gate_linear *o, rp_error *err) {
+  (void)ctx; (void)sweep; (void)temp_c; (void)mu; (void)err;
+  const double zh = nw * 0.05 * pow(d0, 7.0);
+  const double zv = zh / (1.0 + 0.3 * d0);
+  const double rho = 0.99, dl = 2.0 * d0 * M_PI / 180.0;
+  o->zh_mm6_m3 = zh;
+  o->zv_mm6_m3 = zv;
+  o->zhv_mm6_m3 = 1e-3 * zh;
+  o->zhhvv_re_mm6_m3 = rho * sqrt(zh * zv) * cos(dl);
+  o->zhhvv_im_mm6_m3 = rho * sqrt(zh * zv) * sin(dl);
+  o->kdp_deg_km = 1e-4 * nw * pow(d0, 4.0);
+  o->ah_db_km = 0.08 * o->kdp_deg_km;
+  o->adp_db_km = 0.02 * o->kdp_deg_km;
+  return RP_OK;
+}
+
+static rp_status failing_eval(const void *ctx, size_t sweep, double temp_c, double nw,
+                              double d0, double mu, rp_gate_linear *o, rp_error *err) {
+  (void)ctx; (void)sweep; (void)temp_c; (void)nw; (void)d0; (void)mu; (void)o;
+  return rp_error_set(err, RP_EDOM, "fake evaluator refuses");
+}
+
+/* Rayleigh table: back_hh2 = D^6 (any constant cancels in v_z), fall speeds of the
+ * library's default model. */
+static rp_table *rayleigh_table(int constant_speed) {
+  const size_t n = 80;
+  rp_table *t = rp_table_alloc(n);
+  for (size_t i = 0; i < n; i++) {
+    const double d = 0.1 * (double)(i + 1);
+    t->d_mm[i] = d;
+    t->back_hh2_mm2[i] = pow(d, 6.0);
+    double v = 0;
+    rp_fallspeed_eval(RP_FALL_DEFAULT, d, &v, NULL);
+    t->fall_speed_m_s[i] = constant_speed ? 5.0 : v;
+  }
+  return t;
+}
+
+typedef struct {
+  rp_table *t;
+  rp_fallmom *fm;
+  rp_volume_physics p;
+} fixture;
+
+static void fixture_init(fixture *f) {
+  f->t = rayleigh_table(0);
+  assert_int_equal(rp_fallmom_alloc(f->t, &f->fm, NULL), RP_OK);
+  f->p.eval = fake_eval;
+  f->p.ctx = NULL;
+  f->p.fall = f->fm;
+}
+
+static void fixture_free(fixture *f) {
+  rp_fallmom_free(f->fm);
+  rp_table_free(f->t);
+}
+
+static void small_scene(rp_scenario *s) {
+  rp_scenario_default(s);
+  s->radar.gates = 200;
+  s->radar.gate_spacing_m = 250;
+  s->radar.azimuth_step_deg = 4.0;
+  s->radar.n_elevations = 2;
+  s->radar.elevations_deg[0] = 0.5;
+  s->radar.elevations_deg[1] = 3.0;
+  s->radar.phidp_offset_deg = 30.0;
+  s->radar.measures_ldr = true;
+  s->has_background = true;
+  s->bg_nw_m3_mm = 3000;
+  s->bg_d0_mm = 1.2;
+  s->bg_mu = 3;
+  s->n_cells = 1;
+  s->cells[0] = (rp_cell){RP_CELL_GAUSSIAN, 20.0, 20.0, 5.0, 0, 0, 0, 20000, 2.4, 2};
+  s->wind.u_ms = 10;
+  s->wind.v_ms = 5;
+  s->wind.turbulence_ms = 1;
+}
+
+/* Without noise: PHIDP - offset - delta_hv = 2 ∫KDP and DBZ = Z - 2∫AH, ZDR = ZDR -
+ * 2∫ADP, with the path rule "previous gates + half of this one" recomputed here from
+ * the truth fields. Tolerance: float storage (7 digits) on values up to ~1e2. */
+static void test_noise_free_fields_obey_the_path_integrals(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  small_scene(&s);
+  s.noise = false;
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
+  const double dr = 0.25;
+  size_t checked = 0;
+  for (size_t ray = 0; ray < v->n_rays; ray++) {
+    double ck = 0, ca = 0, cd = 0;
+    for (size_t g = 0; g < v->n_gates; g++) {
+      const double k = rp_volume_get(v, RP_VF_TRUTH_KDP, ray, g);
+      const double a = rp_volume_get(v, RP_VF_TRUTH_AH, ray, g);
+      const double d = rp_volume_get(v, RP_VF_TRUTH_ADP, ray, g);
+      const double kk = isnan(k) ? 0 : k, aa = isnan(a) ? 0 : a, dd = isnan(d) ? 0 : d;
+      const double phi = 2 * dr * (ck + 0.5 * kk), pia = 2 * dr * (ca + 0.5 * aa),
+                   piad = 2 * dr * (cd + 0.5 * dd);
+      ck += kk; ca += aa; cd += dd;
+      const double obs = rp_volume_get(v, RP_VF_PHIDP, ray, g);
+      if (isnan(obs)) continue;
+      assert_close(obs - 30.0 - rp_volume_get(v, RP_VF_TRUTH_DELTA_HV, ray, g), phi, 1e-5, 1e-4);
+      assert_close(rp_volume_get(v, RP_VF_DBZ, ray, g),
+                   rp_volume_get(v, RP_VF_TRUTH_ZH, ray, g) - pia, 1e-5, 1e-4);
+      assert_close(rp_volume_get(v, RP_VF_ZDR, ray, g),
+                   rp_volume_get(v, RP_VF_TRUTH_ZDR, ray, g) - piad, 1e-5, 1e-4);
+      checked++;
+    }
+  }
+  assert_true(checked > 10000);
+  assert_true(v->summary.max_pia_db > 1.0); /* the cell attenuates: the check is not empty */
+  rp_volume_free(v);
+  fixture_free(&f);
+}
+
+/* Uniform rain, many gates: the sample spread of the noise of DBZ, ZDR, PHIDP and VEL
+ * matches rp_volume_noise_std within 10 % (brief). Noise-free and noisy volumes with
+ * the same scene give the truth and the observation; their difference is the noise. */
+static void test_noise_spread_matches_the_estimator_formulas(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  rp_scenario_default(&s);
+  s.radar.gates = 100;
+  s.radar.gate_spacing_m = 250;
+  s.radar.azimuth_step_deg = 1.0;
+  s.radar.elevations_deg[0] = 0.5;
+  s.has_background = true;
+  s.bg_nw_m3_mm = 2000;
+  s.bg_d0_mm = 1.0;
+  s.bg_mu = 3;
+  s.wind.turbulence_ms = 2.0;
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *clean = NULL, *noisy = NULL;
+  o.noise = false;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &clean, NULL), RP_OK);
+  o.noise = true;
+  o.seed = 7;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &noisy, NULL), RP_OK);
+  const rp_volume_field fl[4] = {RP_VF_DBZ, RP_VF_ZDR, RP_VF_PHIDP, RP_VF_VEL};
+  for (int k = 0; k < 4; k++) {
+    double s2 = 0, e2 = 0;
+    size_t n = 0;
+    for (size_t ray = 0; ray < noisy->n_rays; ray++)
+      for (size_t g = 0; g < noisy->n_gates; g++) {
+        const double a = rp_volume_get(noisy, fl[k], ray, g), b = rp_volume_get(clean, fl[k], ray, g);
+        if (isnan(a) || isnan(b)) continue;
+        rp_volume_noise sd;
+        const double snr = pow(10.0, 0.1 * rp_volume_get(clean, RP_VF_SNR, ray, g));
+        rp_volume_noise_std(s.radar.pulses, 1.0 / s.radar.prf_hz, noisy->wavelength_m,
+                            rp_volume_get(clean, RP_VF_TRUTH_WIDTH, ray, g), snr,
+                            rp_volume_get(clean, RP_VF_TRUTH_RHOHV, ray, g), 1e-3, &sd);
+        const double want = k == 0 ? sd.dbz : k == 1 ? sd.zdr_db : k == 2 ? sd.phidp_deg : sd.vel_ms;
+        double d = a - b;
+        if (k == 3) d = rp_volume_fold(d, noisy->nyquist_ms);
+        s2 += d * d;
+        e2 += want * want;
+        n++;
+      }
+    assert_true(n > 20000);
+    /* with n > 20000 draws the sample variance is within 2 % (3 sigma of sqrt(2/n)) */
+    assert_close(sqrt(s2 / (double)n), sqrt(e2 / (double)n), 0.10, 0);
+  }
+  rp_volume_free(clean);
+  rp_volume_free(noisy);
+  fixture_free(&f);
+}
+
+static void test_velocity_folds_at_the_nyquist_velocity(void **state) {
+  (void)state;
+  assert_close(rp_volume_fold(5.0, 8.0), 5.0, 0, 1e-12);
+  assert_close(rp_volume_fold(10.0, 8.0), -6.0, 0, 1e-12);
+  assert_close(rp_volume_fold(-10.0, 8.0), 6.0, 0, 1e-12);
+  assert_close(rp_volume_fold(8.0, 8.0), -8.0, 0, 1e-12);
+  assert_close(rp_volume_fold(33.0, 8.0), 1.0, 0, 1e-12);
+  /* in a volume: a 30 m/s wind folds, VEL stays inside [-v_a, v_a) */
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  small_scene(&s);
+  s.wind.u_ms = 30;
+  s.noise = false;
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
+  size_t folded = 0;
+  for (size_t i = 0; i < v->n_rays; i++)
+    for (size_t g = 0; g < v->n_gates; g++) {
+      const double a = rp_volume_get(v, RP_VF_VEL, i, g), t = rp_volume_get(v, RP_VF_TRUTH_VEL, i, g);
+      if (isnan(a)) continue;
+      assert_true(a >= -v->nyquist_ms && a < v->nyquist_ms);
+      assert_close(a, rp_volume_fold(t, v->nyquist_ms), 0, 1e-4);
+      if (fabs(t) > v->nyquist_ms) folded++;
+    }
+  assert_true(folded > 0);
+  rp_volume_free(v);
+  fixture_free(&f);
+}
+
+static int volumes_equal(const rp_volume *a, const rp_volume *b) {
+  for (int f = 0; f < RP_VF_COUNT; f++) {
+    if ((a->field[f] == NULL) != (b->field[f] == NULL)) return 0;
+    if (a->field[f] && memcmp(a->field[f], b->field[f], a->n_rays * a->n_gates * sizeof(float)) != 0) return 0;
+  }
+  return 1;
+}
+
+static void test_same_seed_gives_the_same_volume_on_one_and_two_threads(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  small_scene(&s);
+  s.beam_samples = 2;
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  o.seed = 99;
+  rp_volume *a = NULL, *b = NULL, *c = NULL;
+  o.threads = 1;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &a, NULL), RP_OK);
+  o.threads = 2;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &b, NULL), RP_OK);
+  o.seed = 100;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &c, NULL), RP_OK);
+  assert_true(volumes_equal(a, b));
+  assert_false(volumes_equal(a, c));
+  rp_volume_free(a);
+  rp_volume_free(b);
+  rp_volume_free(c);
+  fixture_free(&f);
+}
+
+static void test_gates_above_the_freezing_level_are_flagged_not_rain(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  small_scene(&s);
+  s.surface_temperature_c = 6.0; /* freezing level 923 m */
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
+  size_t above = 0;
+  for (size_t i = 0; i < v->n_rays; i++)
+    for (size_t g = 0; g < v->n_gates; g++) {
+      const double h = rp_volume_get(v, RP_VF_GATE_HEIGHT, i, g);
+      const double fl = rp_volume_get(v, RP_VF_TRUTH_FLAG, i, g);
+      if (h > v->freezing_level_m) {
+        above++;
+        assert_close(fl, RP_GATE_ABOVE_FREEZING, 0, 0);
+        assert_true(isnan(rp_volume_get(v, RP_VF_DBZ, i, g)));
+        assert_true(isnan(rp_volume_get(v, RP_VF_TRUTH_ZH, i, g)));
+      }
+    }
+  assert_true(above > 1000);
+  rp_volume_free(v);
+  fixture_free(&f);
+}
+
+static void test_bad_scenarios_are_refused_with_the_key(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  char key[96];
+  rp_error e = {0};
+  small_scene(&s);
+  s.radar.gate_spacing_m = -250;
+  assert_int_equal(rp_scenario_check(&s, key, sizeof key, &e), RP_EINVAL);
+  assert_string_equal(key, "radar.gate_spacing_m");
+  small_scene(&s);
+  s.radar.elevations_deg[1] = 91;
+  assert_int_equal(rp_scenario_check(&s, key, sizeof key, &e), RP_EINVAL);
+  assert_string_equal(key, "radar.elevations_deg[1]");
+  small_scene(&s);
+  s.cells[0].d0_mm = NAN;
+  assert_int_equal(rp_scenario_check(&s, key, sizeof key, &e), RP_EINVAL);
+  assert_string_equal(key, "rain.cells[0].d0_mm");
+  small_scene(&s);
+  s.radar.gates = 4000;
+  s.radar.gate_spacing_m = 100;
+  s.radar.azimuth_step_deg = 0.1;
+  s.radar.n_elevations = 20;
+  for (int i = 0; i < 20; i++) s.radar.elevations_deg[i] = 0.5 + i;
+  assert_int_equal(rp_scenario_check(&s, key, sizeof key, &e), RP_EINVAL);
+  assert_non_null(strstr(e.msg, "2 GB"));
+  small_scene(&s);
+  s.kdp_window_gates = 8;
+  assert_int_equal(rp_scenario_check(&s, key, sizeof key, &e), RP_EINVAL);
+  small_scene(&s);
+  s.radar.azimuth_step_deg = 0.7;
+  assert_int_equal(rp_scenario_check(&s, key, sizeof key, &e), RP_EINVAL);
+  small_scene(&s);
+  snprintf(s.radar.start_time, sizeof s.radar.start_time, "%s", "yesterday");
+  assert_int_equal(rp_scenario_check(&s, key, sizeof key, &e), RP_EINVAL);
+  /* synthesis: NULL arguments, missing evaluator, evaluator failure */
+  small_scene(&s);
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(NULL, &f.p, &o, &v, &e), RP_EINVAL);
+  rp_volume_physics bad = f.p;
+  bad.eval = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, &bad, &o, &v, &e), RP_EINVAL);
+  bad.eval = failing_eval;
+  assert_int_equal(rp_volume_synthesize(&s, &bad, &o, &v, &e), RP_EDOM);
+  assert_non_null(strstr(e.msg, "sweep 0"));
+  assert_null(v);
+  s.radar.gate_spacing_m = -1;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, &e), RP_EINVAL);
+  fixture_free(&f);
+}
+
+/* Fall moments: with a constant fall speed, v_z is that speed and its spread 0; with
+ * Rayleigh weights and the default fall model, v_z lies between v(D0) and v(Dmax),
+ * and D_m matches the untruncated gamma relation Dm = D0 (4 + mu)/(3.67 + mu)
+ * (Bringi & Chandrasekar 2001 §7.1, from memory) within the truncation's effect (1 %
+ * for D0 = 1.5 mm, mu = 3). */
+static void test_fall_moments_limits(void **state) {
+  (void)state;
+  rp_table *t = rayleigh_table(1);
+  rp_fallmom *fm = NULL;
+  assert_int_equal(rp_fallmom_alloc(t, &fm, NULL), RP_OK);
+  rp_fallmom_value v;
+  rp_fallmom_eval(fm, 1.5, 3.0, &v);
+  assert_close(v.vz_ms, 5.0, 1e-9, 0);
+  assert_close(v.sigma_z_ms, 0.0, 0, 1e-5);
+  assert_close(v.dm_mm, 1.5 * 7.0 / 6.67, 0.01, 0);
+  /* rain rate per Nw for constant v: R = 6 pi 1e-4 v M3; W = pi/6 1e-3 M3, so R/W = 3.6 v */
+  assert_close(v.rain_per_nw / v.lwc_per_nw, 3.6 * 5.0, 1e-9, 0);
+  rp_fallmom_free(fm);
+  rp_table_free(t);
+  t = rayleigh_table(0);
+  assert_int_equal(rp_fallmom_alloc(t, &fm, NULL), RP_OK);
+  rp_fallmom_eval(fm, 1.5, 3.0, &v);
+  double v0, v8;
+  rp_fallspeed_eval(RP_FALL_DEFAULT, 1.5, &v0, NULL);
+  rp_fallspeed_eval(RP_FALL_DEFAULT, 8.0, &v8, NULL);
+  assert_true(v.vz_ms > v0 && v.vz_ms < v8);
+  assert_true(v.sigma_z_ms > 0.1);
+  rp_fallmom_free(fm);
+  /* a broken table */
+  t->fall_speed_m_s[3] = -1;
+  rp_error e = {0};
+  assert_int_equal(rp_fallmom_alloc(t, &fm, &e), RP_ETABLE);
+  assert_int_equal(rp_fallmom_alloc(NULL, &fm, &e), RP_EINVAL);
+  rp_table_free(t);
+}
+
+/* Score: retrieval = 1.1 truth gives +10 % normalised bias and correlation 1 (brief);
+ * bias = 0.1 mean(t); NaN pairs are skipped. */
+static void test_score_of_a_scaled_retrieval(void **state) {
+  (void)state;
+  enum { N = 1000 };
+  double t[N], r[N], key[N];
+  for (int i = 0; i < N; i++) {
+    t[i] = 1.0 + (double)(i % 37);
+    r[i] = 1.1 * t[i];
+    key[i] = (double)i;
+  }
+  t[5] = NAN;
+  r[9] = NAN;
+  rp_score sc;
+  assert_int_equal(rp_score_compute(r, t, N, &sc, NULL), RP_OK);
+  assert_int_equal(sc.count, N - 2);
+  assert_close(sc.nbias_pct, 10.0, 1e-12, 0);
+  assert_close(sc.corr, 1.0, 1e-12, 0);
+  assert_close(sc.bias, 0.1 * sc.mean_truth, 1e-12, 0);
+  const double edges[3] = {0, 500, 1000};
+  rp_score bins[2];
+  assert_int_equal(rp_score_bins(r, t, key, N, edges, 3, bins, NULL), RP_OK);
+  assert_int_equal(bins[0].count + bins[1].count, N - 2);
+  assert_close(bins[1].nbias_pct, 10.0, 1e-12, 0);
+  size_t counts[4 * 4];
+  assert_int_equal(rp_score_density(r, t, N, 0, 40, 4, 0, 44, 4, counts, NULL), RP_OK);
+  size_t total = 0;
+  for (int i = 0; i < 16; i++) total += counts[i];
+  assert_int_equal(total, N - 2);
+  for (int i = 0; i < 4; i++) total -= counts[i * 4 + i]; /* r = 1.1 t falls on the diagonal */
+  assert_int_equal(total, 0);
+  rp_error e = {0};
+  assert_int_equal(rp_score_compute(NULL, t, N, &sc, &e), RP_EINVAL);
+  assert_int_equal(rp_score_bins(r, t, key, N, edges, 1, bins, &e), RP_EINVAL);
+  const double bad_edges[3] = {0, 0, 1};
+  assert_int_equal(rp_score_bins(r, t, key, N, bad_edges, 3, bins, &e), RP_EINVAL);
+  assert_int_equal(rp_score_density(r, t, N, 1, 0, 4, 0, 1, 4, counts, &e), RP_EINVAL);
+  /* nothing to compare: NaN statistics, count 0 */
+  assert_int_equal(rp_score_compute(r, t, 0, &sc, NULL), RP_OK);
+  assert_int_equal(sc.count, 0);
+  assert_true(isnan(sc.bias));
+}
+
+int main(void) {
+  rp_test_init();
+  const struct CMUnitTest tests[] = {
+      cmocka_unit_test(test_noise_free_fields_obey_the_path_integrals),
+      cmocka_unit_test(test_noise_spread_matches_the_estimator_formulas),
+      cmocka_unit_test(test_velocity_folds_at_the_nyquist_velocity),
+      cmocka_unit_test(test_same_seed_gives_the_same_volume_on_one_and_two_threads),
+      cmocka_unit_test(test_gates_above_the_freezing_level_are_flagged_not_rain),
+      cmocka_unit_test(test_bad_scenarios_are_refused_with_the_key),
+      cmocka_unit_test(test_fall_moments_limits),
+      cmocka_unit_test(test_score_of_a_scaled_retrieval),
+  };
+  return cmocka_run_group_tests(tests, NULL, NULL);
+}
