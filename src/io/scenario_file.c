@@ -192,6 +192,19 @@ typedef struct {
   size_t n, cap;
 } key_lines;
 
+static void add_line(key_lines *kl, const char *path, unsigned line) {
+  if (kl->n == kl->cap) {
+    const size_t nc = kl->cap ? 2 * kl->cap : 64;
+    key_line *nv = realloc(kl->v, nc * sizeof *nv);
+    if (nv == NULL) return;
+    kl->v = nv;
+    kl->cap = nc;
+  }
+  snprintf(kl->v[kl->n].path, sizeof kl->v[kl->n].path, "%s", path);
+  kl->v[kl->n].line = line;
+  kl->n++;
+}
+
 /* Record the line of every key path of the file (best effort: a failure leaves the
  * list short and messages without a line). */
 static void scan_lines(const char *path, key_lines *kl) {
@@ -220,6 +233,10 @@ static void scan_lines(const char *path, key_lines *kl) {
       snprintf(here, sizeof here, "%s", pending);
     else if (depth >= 0 && st[depth].is_seq)
       snprintf(here, sizeof here, "%.80s[%ld]", st[depth].prefix, st[depth].index);
+    /* items of a sequence get their own path ("rain.cells[1]") */
+    if (depth >= 0 && st[depth].is_seq &&
+        (t == YAML_MAPPING_START_EVENT || t == YAML_SEQUENCE_START_EVENT || t == YAML_SCALAR_EVENT))
+      add_line(kl, here, (unsigned)e.start_mark.line + 1);
     if (t == YAML_MAPPING_START_EVENT || t == YAML_SEQUENCE_START_EVENT) {
       if (depth + 1 < 16) {
         depth++;
@@ -241,19 +258,7 @@ static void scan_lines(const char *path, key_lines *kl) {
           snprintf(pending, sizeof pending, "%.60s.%.30s", st[depth].prefix, key);
         else
           snprintf(pending, sizeof pending, "%.60s", key);
-        if (kl->n == kl->cap) {
-          const size_t nc = kl->cap ? 2 * kl->cap : 64;
-          key_line *nv = realloc(kl->v, nc * sizeof *nv);
-          if (nv != NULL) {
-            kl->v = nv;
-            kl->cap = nc;
-          }
-        }
-        if (kl->n < kl->cap) {
-          snprintf(kl->v[kl->n].path, sizeof kl->v[kl->n].path, "%s", pending);
-          kl->v[kl->n].line = (unsigned)e.start_mark.line + 1;
-          kl->n++;
-        }
+        add_line(kl, pending, (unsigned)e.start_mark.line + 1);
         st[depth].expect_key = 0;
       } else if (st[depth].is_seq) {
         st[depth].index++;

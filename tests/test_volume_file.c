@@ -1,0 +1,194 @@
+/* test_volume_file.c — volumes from the radar model written as CF/Radial 1.4 files and
+ * read back; the model binding against a direct gate evaluation.
+ *
+ * Also a helper for tests/ref_volume_cfradial.py:
+ *   test_volume_file --write SCENARIO.yaml OUT.nc
+ * writes the volume of a scenario (tables from the shipped folder and RAINPRINT_CACHE). */
+#include "rp_test.h"
+
+#include <string.h>
+#include <unistd.h>
+
+#include "rainprint/beam.h"
+#include "rainprint/radar_model.h"
+#include "rainprint/scenario_file.h"
+#include "rainprint/table_file.h"
+#include "rainprint/volume.h"
+#include "rainprint/volume_file.h"
+#include "rainprint/volume_model.h"
+
+typedef struct {
+  rp_table_store *store;
+  rp_radar_model *model;
+  rp_volume_model *vm;
+} model_fixture;
+
+static rp_status model_open(const rp_scenario *s, model_fixture *f, rp_error *err) {
+  memset(f, 0, sizeof *f);
+  const char *cache = getenv("RAINPRINT_CACHE");
+  f->store = rp_table_store_alloc(RP_SOURCE_DIR "/scattering", cache);
+  if (f->store == NULL) return rp_error_set(err, RP_ENOMEM, "store");
+  rp_radar_config c;
+  RP_TRY(rp_volume_radar_config(s, &c, err));
+  c.source = rp_table_store_source(f->store);
+  RP_TRY(rp_radar_model_alloc(&c, &f->model, err));
+  return rp_volume_model_alloc(f->model, s, &f->vm, err);
+}
+
+static void model_close(model_fixture *f) {
+  rp_volume_model_free(f->vm);
+  rp_radar_model_free(f->model);
+  rp_table_store_free(f->store);
+}
+
+static void small_scene(rp_scenario *s) {
+  rp_scenario_default(s);
+  snprintf(s->radar.name, sizeof s->radar.name, "%s", "Test Fen C");
+  s->radar.gates = 120;
+  s->radar.gate_spacing_m = 250;
+  s->radar.azimuth_step_deg = 5.0;
+  s->radar.n_elevations = 2;
+  s->radar.elevations_deg[0] = 0.0;
+  s->radar.elevations_deg[1] = 2.0;
+  s->surface_temperature_c = 10.0;
+  s->has_background = true;
+  s->bg_nw_m3_mm = 8000;
+  s->bg_d0_mm = 1.5;
+  s->bg_mu = 3;
+}
+
+/* truth_zh_dbz / truth_zdr_db of uniform rain at a gate equal the radar model's direct
+ * integration at that gate's temperature (rp_radar_model_gate, exact temperature):
+ * 0.05 dB covers the fast path's bicubic interpolation and the 5 C temperature nodes
+ * (radar_model.h: 0.2 % in Z, i.e. 0.01 dB). */
+static void test_model_binding_matches_direct_gate(void **state) {
+  (void)state;
+  rp_scenario s;
+  small_scene(&s);
+  s.noise = false;
+  model_fixture f;
+  rp_error e = {0};
+  rp_status st = model_open(&s, &f, &e);
+  if (st != RP_OK) print_error("%s\n", e.msg);
+  assert_int_equal(st, RP_OK);
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, rp_volume_model_physics(f.vm), &o, &v, &e), RP_OK);
+  rp_dsd d;
+  assert_int_equal(rp_dsd_normalized_gamma_d0(&d, 8000, 1.5, 3, NULL), RP_OK);
+  const size_t gates[3] = {10, 60, 110};
+  for (int i = 0; i < 3; i++) {
+    const double tc = rp_volume_get(v, RP_VF_TRUTH_TEMP, 0, gates[i]);
+    rp_gate_result r;
+    assert_int_equal(rp_radar_model_gate(f.model, 0, tc, 0.0, &d, &r, NULL, &e), RP_OK);
+    assert_close(rp_volume_get(v, RP_VF_TRUTH_ZH, 0, gates[i]), r.zh_dbz, 0, 0.05);
+    assert_close(rp_volume_get(v, RP_VF_TRUTH_ZDR, 0, gates[i]), r.zdr_db, 0, 0.02);
+    assert_close(rp_volume_get(v, RP_VF_TRUTH_KDP, 0, gates[i]), r.kdp_deg_km, 0.01, 1e-4);
+  }
+  rp_volume_free(v);
+  model_close(&f);
+}
+
+/* Write, reopen, read back: dimensions, sweeps partition the rays, fill -> NaN, values
+ * equal the float fields, an RHI cut takes one ray per sweep. */
+static void test_written_file_reads_back(void **state) {
+  (void)state;
+  rp_scenario s;
+  small_scene(&s);
+  s.surface_temperature_c = 5.0; /* freezing level 770 m: the 2 deg sweep leaves the rain */
+  model_fixture f;
+  rp_error e = {0};
+  assert_int_equal(model_open(&s, &f, &e), RP_OK);
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, rp_volume_model_physics(f.vm), &o, &v, &e), RP_OK);
+  char path[256];
+  snprintf(path, sizeof path, "/tmp/rp_test_volume_%d.nc", (int)getpid());
+  rp_status st = rp_volume_file_write(v, path, "radar: {band: C}\n", &e);
+  if (st != RP_OK) print_error("%s\n", e.msg);
+  assert_int_equal(st, RP_OK);
+  rp_volume_reader *r = NULL;
+  assert_int_equal(rp_volume_file_open(path, &r, &e), RP_OK);
+  assert_int_equal(rp_volume_file_rays(r), v->n_rays);
+  assert_int_equal(rp_volume_file_gates(r), v->n_gates);
+  assert_int_equal(rp_volume_file_sweeps(r), 2);
+  int have_dbz = 0, have_truth = 0;
+  for (size_t i = 0; i < rp_volume_file_n_fields(r); i++) {
+    have_dbz |= strcmp(rp_volume_file_field_name(r, i), "DBZ") == 0;
+    have_truth |= strcmp(rp_volume_file_field_name(r, i), "truth_zh_dbz") == 0;
+  }
+  assert_true(have_dbz && have_truth);
+  double *buf = malloc(v->n_rays * v->n_gates * sizeof *buf);
+  char units[32];
+  assert_int_equal(rp_volume_file_read_field(r, "DBZ", buf, units, sizeof units, &e), RP_OK);
+  assert_string_equal(units, "dBZ");
+  size_t nan_both = 0;
+  for (size_t i = 0; i < v->n_rays * v->n_gates; i++) {
+    const double want = (double)v->field[RP_VF_DBZ][i];
+    if (isnan(want)) {
+      assert_true(isnan(buf[i]));
+      nan_both++;
+    } else {
+      assert_close(buf[i], want, 0, 0); /* float round trip is exact */
+    }
+  }
+  assert_true(nan_both > 0); /* the fill -> NaN check is not empty */
+  rp_volume_cut c;
+  assert_int_equal(rp_volume_file_read_sweep(r, "truth_zh_dbz", 1, &c, &e), RP_OK);
+  assert_int_equal(c.n_rays, v->n_rays / 2);
+  assert_close(c.fixed_angle_deg, 2.0, 0, 1e-6);
+  assert_close(c.height_m[5], rp_beam_height_m(c.range_m[5], 2.0), 0, 1e-6);
+  rp_volume_cut_free(&c);
+  assert_int_equal(rp_volume_file_read_rhi(r, "DBZ", 93.0, &c, &e), RP_OK);
+  assert_int_equal(c.n_rays, 2);
+  assert_close(c.azimuth_deg[0], 92.5, 0, 1e-4);
+  rp_volume_cut_free(&c);
+  assert_int_equal(rp_volume_file_read_field(r, "NOPE", buf, NULL, 0, &e), RP_EINVAL);
+  assert_non_null(strstr(e.msg, "DBZ"));
+  assert_int_equal(rp_volume_file_read_sweep(r, "DBZ", 5, &c, &e), RP_EINVAL);
+  assert_int_equal(rp_volume_file_read_rhi(r, "DBZ", NAN, &c, &e), RP_EINVAL);
+  rp_volume_file_close(r);
+  free(buf);
+  remove(path);
+  /* errors: unwritable folder leaves nothing, missing file, not a volume */
+  assert_int_equal(rp_volume_file_write(v, "/nonexistent-dir/v.nc", NULL, &e), RP_EIO);
+  assert_int_equal(rp_volume_file_write(NULL, path, NULL, &e), RP_EINVAL);
+  assert_int_equal(rp_volume_file_open("/nonexistent-dir/v.nc", &r, &e), RP_EIO);
+  char tab[512];
+  assert_int_equal(rp_volume_file_open(rp_test_source_path("scattering/rainprint_C_10C.nc", tab, sizeof tab), &r, &e), RP_EPARSE);
+  rp_volume_free(v);
+  model_close(&f);
+}
+
+static int write_helper(const char *scen, const char *out) {
+  rp_test_init();
+  rp_scenario s;
+  rp_error e = {0};
+  char *text = NULL;
+  model_fixture f;
+  memset(&f, 0, sizeof f);
+  rp_volume *v = NULL;
+  rp_status st = rp_scenario_file_load(scen, RP_SOURCE_DIR "/dsd-presets", &s, &text, &e);
+  if (st == RP_OK) st = model_open(&s, &f, &e);
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  if (st == RP_OK) st = rp_volume_synthesize(&s, rp_volume_model_physics(f.vm), &o, &v, &e);
+  if (st == RP_OK) st = rp_volume_file_write(v, out, text, &e);
+  if (st != RP_OK) fprintf(stderr, "test_volume_file: %s\n", e.msg);
+  rp_volume_free(v);
+  model_close(&f);
+  free(text);
+  return st == RP_OK ? 0 : 1;
+}
+
+int main(int argc, char **argv) {
+  if (argc == 4 && strcmp(argv[1], "--write") == 0) return write_helper(argv[2], argv[3]);
+  rp_test_init();
+  const struct CMUnitTest tests[] = {
+      cmocka_unit_test(test_model_binding_matches_direct_gate),
+      cmocka_unit_test(test_written_file_reads_back),
+  };
+  return cmocka_run_group_tests(tests, NULL, NULL);
+}
