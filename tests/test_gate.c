@@ -364,9 +364,11 @@ static void test_eval_zero_concentration_is_no_drops(void **state) {
   rp_gate_linear lin;
   assert_int_equal(rp_gate_eval_linear(p, &d, &lin, &e), RP_OK);
   assert_close(lin.zh_mm6_m3, 0.0, 0.0, 0.0);
-  /* an analytic DSD whose every node underflows: Lambda = 1e4 mm^-1 */
+  /* an analytic DSD whose every node underflows: Lambda = 1e4 mm^-1 (set in the struct:
+   * the constructors may refuse such a DSD, the gate must cope with it anyway) */
   rp_dsd g;
-  assert_int_equal(rp_dsd_gamma(&g, 1.0, 0.0, 1e4, NULL), RP_OK);
+  assert_int_equal(rp_dsd_gamma(&g, 1.0, 0.0, 1.0, NULL), RP_OK);
+  g.lambda_per_mm = 1e4;
   assert_int_equal(rp_gate_eval(p, &g, &r, &e), RP_EDOM);
   assert_true(has(&e, "no drops"));
   rp_gate_plan_free(p);
@@ -424,8 +426,11 @@ static void test_eval_overflow_is_edom(void **state) {
   rp_dsd g;
   rp_gate_result r;
   rp_error e = {0};
-  /* N0 = 1e306 m^-3 mm^-1, Lambda = 0.1 mm^-1: Z ~ 1e306 * 8^7/7 * |K|^2/|K_w|^2 */
-  assert_int_equal(rp_dsd_exponential(&g, 1e306, 0.1, NULL), RP_OK);
+  /* N0 = 1e306 m^-3 mm^-1, Lambda = 0.1 mm^-1: Z ~ 1e306 * 8^7/7 * |K|^2/|K_w|^2 (set in
+   * the struct: the constructors may refuse such a DSD, the gate must cope anyway) */
+  assert_int_equal(rp_dsd_exponential(&g, 8000.0, 2.0, NULL), RP_OK);
+  g.n0 = 1e306;
+  g.lambda_per_mm = 0.1;
   assert_int_equal(rp_gate_eval(p, &g, &r, &e), RP_EDOM);
   assert_true(has(&e, "overflow"));
   rp_gate_plan_free(p);
@@ -1066,7 +1071,8 @@ static void test_fast_matches_direct_over_whole_grid(void **state) {
    * integrator's own acceptance, 1e-5 (measured 1.5e-6 with ln(1 - rho) interpolated);
    * delta_hv and LDR to 0.01 deg and 0.02 dB (measured LDR 7e-4 dB). */
   const rp_table *tabs[3] = {tm_s, tm_c, tm_x};
-  const double nws[3] = {1.0, 8000.0, 3e5};
+  /* N_w spans 4 decades; 8000 keeps the LWC of D0 = 3.5 mm physical (21 g m^-3) */
+  const double nws[3] = {1.0, 100.0, 8000.0};
   for (int b = 0; b < 3; b++) {
     rp_gate_plan *p = plan_of(tabs[b]);
     rp_gate_fast *f = NULL;
