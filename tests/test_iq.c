@@ -15,6 +15,7 @@
 #include "rainprint/fallspeed.h"
 #include "rainprint/iq.h"
 #include "rainprint/pulse_estimators.h"
+#include "signal/signal_internal.h"
 
 /* A C-band-like demo gate: lambda 53 mm, T_s 1 ms -> v_a = 13.25 m/s. */
 static rp_iq_params base_params(void) {
@@ -363,10 +364,59 @@ static void test_mixture_spectrum_synthesis_matches_autocorr(void **state) {
   assert_close(cimag(a.mean), cimag(e), 0, 5 * a.se);
 }
 
+static int cmp_double(const void *a, const void *b) {
+  const double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+static void test_ziggurat_deviates_are_standard_normal(void **state) {
+  (void)state;
+  /* 10^6 deviates: mean, variance and fourth moment within 5 standard errors of 0, 1, 3
+   * (s.e. sqrt(1/n), sqrt(2/n), sqrt(96/n)); the share beyond the base layer's r =
+   * 3.4426 (drawn by the tail method) within 5 s.e. of 2 Q(r) (GSL gsl_cdf_ugaussian_Q);
+   * Kolmogorov-Smirnov distance against GSL's normal CDF on the first 10^5 below the
+   * alpha = 0.001 critical value 1.949 / sqrt(n) (asymptotic Kolmogorov distribution;
+   * from memory). */
+  rp_zig_table z;
+  rp_signal_zig_setup(&z);
+  const size_t n = 1000000, nks = 100000;
+  double *x = malloc(n * sizeof *x);
+  rp_rng rng;
+  rp_rng_init(&rng, 77, rp_rng_key(RP_RNG_TEST, 9, 0, 0));
+  double s1 = 0, s2 = 0, s4 = 0;
+  size_t tail = 0;
+  for (size_t i = 0; i < n; i++) {
+    x[i] = rp_signal_normal(&z, &rng);
+    s1 += x[i];
+    s2 += x[i] * x[i];
+    s4 += x[i] * x[i] * x[i] * x[i];
+    tail += fabs(x[i]) > 3.442619855899;
+  }
+  const double dn = (double)n;
+  assert_close(s1 / dn, 0, 0, 5 * sqrt(1 / dn));
+  assert_close(s2 / dn, 1, 0, 5 * sqrt(2 / dn));
+  assert_close(s4 / dn, 3, 0, 5 * sqrt(96 / dn));
+  const double pt = 2 * gsl_cdf_ugaussian_Q(3.442619855899);
+  assert_close((double)tail / dn, pt, 0, 5 * sqrt(pt / dn));
+  qsort(x, nks, sizeof *x, cmp_double);
+  double d = 0;
+  for (size_t i = 0; i < nks; i++) {
+    const double f = gsl_cdf_ugaussian_P(x[i]);
+    d = fmax(d, fmax(fabs(f - (double)i / (double)nks), fabs(f - (double)(i + 1) / (double)nks)));
+  }
+  print_message("KS distance %.5f (critical %.5f), tail share %.3g (expected %.3g)\n", d,
+                1.949 / sqrt((double)nks), (double)tail / dn, pt);
+  assert_true(d < 1.949 / sqrt((double)nks));
+  /* the layers close at the top: x[127] > 0 and the areas sum to the density's */
+  assert_true(z.x[127] > 0 && z.x[127] < 0.3);
+  free(x);
+}
+
 int main(void) {
   rp_test_init();
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_nyquist_is_lambda_over_4T),
+      cmocka_unit_test(test_ziggurat_deviates_are_standard_normal),
       cmocka_unit_test(test_powers_follow_snr_and_zdr),
       cmocka_unit_test(test_hv_correlation_and_phidp_sign),
       cmocka_unit_test(test_lag1_correlation_has_no_wraparound_bias),

