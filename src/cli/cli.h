@@ -187,12 +187,22 @@ extern const char *const rp_cli_band_names[];
  * (rp_drop_config_check). With a band list, cfg.freq_ghz is the first band's. 0 or an
  * exit code after a message. */
 int rp_cli_scatter_from_opts(const rp_opts *o, rp_cli_scatter *s);
+/* The same on top of s->cfg as it is (e.g. a table's configuration): only the options
+ * given change it. */
+int rp_cli_scatter_apply(const rp_opts *o, rp_cli_scatter *s);
 /* The bands of --band LIST / --frequency (or default_list, e.g. "S,C,X"): up to max
  * frequencies and band letters (NULL for an explicit frequency). Count, or -exit code. */
 int rp_cli_bands_from_opts(const rp_opts *o, const char *default_list, double *freqs,
                            const char **names, int max);
 /* Fill d from parsed options of rp_cli_dsd_opts. 0 or an exit code. */
 int rp_cli_dsd_from_opts(const rp_opts *o, rp_cli_dsd *d);
+
+/* Output paths checked before any work starts (rp_output_check: the folder exists, a file
+ * can be created there, the name is not a folder, FIFO or temporary name; a picture's name
+ * ends in .png, .svg or .pdf). NULL paths are skipped. 0 or the usage exit code after a
+ * message naming the option. */
+int rp_cli_check_outputs(const char *cmd, const char *csv_path, const char *plot_path);
+int rp_cli_check_output(const char *cmd, const char *opt, const char *path);
 
 /* A file that could not be written: the one message every command gives,
  * "could not write <what> 'path': <system reason>". Returns the exit code (1). */
@@ -205,5 +215,6 @@ int rp_cmd_gate(int argc, char **argv);
 int rp_cmd_curve(int argc, char **argv);
 int rp_cmd_presets(int argc, char **argv);
 int rp_cmd_relate(int argc, char **argv);
+int rp_cmd_cache(int argc, char **argv);
 
 #endif

@@ -11,6 +11,7 @@
 #include <unistd.h>
 
 #include "io/decimal.h"
+#include "rainprint/output_set.h"
 #include "rainprint/shape.h"
 
 int rp_cli_fail(const char *cmd, rp_status s, const char *fmt, ...) {
@@ -298,8 +299,12 @@ static int has_opt(const rp_opts *o, const char *name) {
 }
 
 int rp_cli_scatter_from_opts(const rp_opts *o, rp_cli_scatter *s) {
-  const char *cmd = o->c->cmd;
   rp_cli_scatter_init(s);
+  return rp_cli_scatter_apply(o, s);
+}
+
+int rp_cli_scatter_apply(const rp_opts *o, rp_cli_scatter *s) {
+  const char *cmd = o->c->cmd;
   int rc;
   if (has_opt(o, "band") && (rc = rp_opts_exclusive(o, "band", "frequency", (const char *)NULL)))
     return rc;
@@ -367,4 +372,23 @@ int rp_cli_write_failed(const char *cmd, const char *what, const char *path, int
   fprintf(stderr, "rainprint %s: could not write %s '%s': %s\n", cmd, what, path,
           errnum ? strerror(errnum) : "unknown reason");
   return RP_EXIT_COMPUTE;
+}
+
+int rp_cli_check_output(const char *cmd, const char *opt, const char *path) {
+  if (path == NULL) return 0;
+  char what[64];
+  snprintf(what, sizeof what, "--%s", opt);
+  rp_error err = {0};
+  if (rp_output_check(what, path, &err) != RP_OK) {
+    rp_cli_fail(cmd, RP_EINVAL, "%s", err.msg);
+    return RP_EXIT_USAGE; /* a path that cannot be written is bad input, found before work */
+  }
+  return 0;
+}
+
+int rp_cli_check_outputs(const char *cmd, const char *csv_path, const char *plot_path) {
+  if (plot_path != NULL && rp_cli_check_plot_path(cmd, plot_path)) return RP_EXIT_USAGE;
+  int rc = rp_cli_check_output(cmd, "csv", csv_path);
+  if (rc == 0) rc = rp_cli_check_output(cmd, "plot", plot_path);
+  return rc;
 }

@@ -4,11 +4,11 @@
  * value and band as CSV or JSON, and optionally a picture (one panel per variable, one
  * line per band).
  *
- * Method: no numerics here. Each value builds a DSD with the library constructors
- * (rp_dsd_normalized_gamma_d0/_dm, rp_dsd_gamma, rp_dsd_marshall_palmer; formulas in
- * docs/method.md §7) or a scattering configuration, and goes through
- * rp_gate_run (gate integrator, docs/method.md §8), which keeps the tables of
- * the process so each configuration's table is obtained once.
+ * Method: no numerics here. Each value builds a DSD with the library's parameter
+ * substitution (dsd_vary.h: rp_dsd_with_param; formulas in docs/method.md §7) or a
+ * scattering configuration, and goes through the radar model (gate_run.h over
+ * radar_model.h), whose cache obtains each configuration's table once. Columns, JSON keys
+ * and picture labels come from the table of fields (field.h).
  *
  * Invariants: every value is checked (DSD built, configuration checked) before anything
  * is computed, and everything is computed before anything is written; the CSV file and
@@ -23,6 +23,9 @@
 
 #include "cli/cli.h"
 #include "cli/gate_run.h"
+#include "cli/progress.h"
+#include "rainprint/dsd_vary.h"
+#include "rainprint/field.h"
 #include "rainprint/plot.h"
 #include "rainprint/shape.h"
 
@@ -58,142 +61,72 @@ static const vary_info VARY[N_VARY] = {
                       "canting angle standard deviation (°)", 0},
 };
 
-/* ---- what can be drawn ------------------------------------------------------------- */
+/* ---- what can be drawn: fields of the table of fields (field.h) --------------------- */
 
-typedef enum {
-  P_ZH, P_ZV, P_ZDR, P_KDP, P_RHOHV, P_DELTA, P_LDR, P_AH, P_ADP, P_RAIN_RATE, N_PLOTVAR
-} plot_var;
+/* --variables names: the radar fields' short names and the DSD's rain rate. */
+static const char *const PLOT_NAMES[] = {"zh", "zv",  "zdr", "kdp", "rhohv",    "delta",
+                                         "ldr", "ah", "av",  "adp", "rain-rate"};
+#define N_PLOTVAR (sizeof PLOT_NAMES / sizeof PLOT_NAMES[0])
 
-typedef struct {
-  const char *name, *ylabel, *title;
-  size_t offset;  /* into rp_gate_result (unused for rain-rate) */
-  int extensive;  /* linear in N(D): log y axis with --log when all values are > 0 */
-} plotvar_info;
+static const char *const VARY_NAMES[N_VARY] = {"d0", "dm", "mu", "nw", "rain-rate",
+                                                "temperature", "elevation", "canting-sd"};
 
-static const plotvar_info PVAR[N_PLOTVAR] = {
-    [P_ZH] = {"zh", "Z#dH#u (dBZ)", "horizontal reflectivity", offsetof(rp_gate_result, zh_dbz), 0},
-    [P_ZV] = {"zv", "Z#dV#u (dBZ)", "vertical reflectivity", offsetof(rp_gate_result, zv_dbz), 0},
-    [P_ZDR] = {"zdr", "Z#dDR#u (dB)", "differential reflectivity",
-               offsetof(rp_gate_result, zdr_db), 0},
-    [P_KDP] = {"kdp", "K#dDP#u (° km#u-1#d)", "specific differential phase",
-               offsetof(rp_gate_result, kdp_deg_km), 1},
-    [P_RHOHV] = {"rhohv", "#gr#dhv#u", "co-polar correlation coefficient",
-                 offsetof(rp_gate_result, rhohv), 0},
-    [P_DELTA] = {"delta", "#gd#dhv#u (°)", "backscatter differential phase",
-                 offsetof(rp_gate_result, delta_hv_deg), 0},
-    [P_LDR] = {"ldr", "LDR (dB)", "linear depolarisation ratio",
-               offsetof(rp_gate_result, ldr_db), 0},
-    [P_AH] = {"ah", "A#dH#u (dB km#u-1#d)", "specific attenuation (one way)",
-              offsetof(rp_gate_result, ah_db_km), 1},
-    [P_ADP] = {"adp", "A#dDP#u (dB km#u-1#d)", "specific differential attenuation (one way)",
-               offsetof(rp_gate_result, adp_db_km), 1},
-    [P_RAIN_RATE] = {"rain-rate", "R (mm h#u-1#d)", "rain rate of the DSD", 0, 1},
+static const rp_opts_spec curve_opts_table[] = {
+    RP_OPTS_ENUM_ROW("vary", "NAME",
+                     "what to vary (required): d0, dm, nw (base: a normalised gamma), mu (a "
+                     "gamma or normalised gamma), rain-rate (marshall-palmer), temperature, "
+                     "elevation, canting-sd (any base); the value replaces the base's, and a "
+                     "varied DSD parameter need not be given with --dsd", VARY_NAMES, NULL),
+    RP_OPTS_DOUBLE_ROW("from", "X", "first value, in the parameter's unit (mm, m^-3 mm^-1, "
+                       "mm/h, C, deg)", 0, 0, 0, NULL),
+    RP_OPTS_DOUBLE_ROW("to", "Y", "last value, greater than --from", 0, 0, 0, NULL),
+    RP_OPTS_LONG_ROW("steps", "N", "number of values, ends included", 2, STEPS_MAX,
+                     RP_OPTS_RANGED, "25"),
+    RP_OPTS_FLAG_ROW("log", "logarithmic spacing (--from > 0), for nw and rain-rate; the "
+                     "picture then has a log x axis"),
+    RP_OPTS_STRING_ROW("csv", "FILE", "write the CSV to FILE (default: CSV on stdout); columns: "
+                       "the varied value with its unit, band, frequency_ghz, the radar "
+                       "variables (zh_dbz ... adp_db_km), then the DSD's own moments "
+                       "dsd_rain_rate_mm_h, dsd_lwc_g_m3, dsd_dm_mm, dsd_d0_mm, dsd_nw_m3_mm"),
+    RP_OPTS_STRING_ROW("plot", "FILE", "picture, format from the extension: .png, .svg or .pdf"),
+    RP_OPTS_LIST_ROW("variables", "LIST", "what the picture shows (default zh,zdr,kdp,ah)",
+                     PLOT_NAMES),
+    RP_OPTS_FLAG_ROW("json", "JSON on stdout instead of the CSV (docs/guide.md)"),
+    RP_OPTS_END};
+
+static const rp_opts_command curve_cmd = {
+    .cmd = CMD,
+    .usage = "curve --vary NAME --from X --to Y [--steps N] [--log]\n"
+             "         (--preset NAME | --dsd MODEL ... | --spectrum FILE.csv)\n"
+             "         [--band S,C,X | --frequency GHZ] [--csv FILE] [--plot FILE.png]\n"
+             "         [--variables LIST] [--json] [scattering options]",
+    .about = "Vary one parameter of the rain or of the scattering over a range, hold the rest at\n"
+             "a base, and give the radar variables at every value and band (default S,C,X): a\n"
+             "CSV (one row per value and band) or JSON, and optionally a picture (one panel per\n"
+             "variable, one line per band). A progress bar shows on a terminal.",
+    .examples = "  rainprint curve --preset gentle-stratiform --vary d0 --from 0.5 --to 3 \\\n"
+                "      --plot zdr_vs_d0.png --variables zdr,kdp,ah --csv zdr_vs_d0.csv\n"
+                "  rainprint curve --dsd marshall-palmer --vary rain-rate --from 1 --to 100 --log \\\n"
+                "      --band X --json",
+    .tables = {curve_opts_table, rp_cli_dsd_opts, rp_cli_bands_opts, rp_cli_scatter_opts},
+    .titles = {"What to vary and output", "Base DSD (one of --preset, --dsd, --spectrum)", "Bands",
+               "Scattering"},
 };
-
-static const char curve_help[] =
-    "Usage: rainprint curve --vary NAME --from X --to Y [--steps N] [--log]\n"
-    "                       (--preset NAME | --dsd MODEL ... | --spectrum FILE.csv)\n"
-    "                       [--band S,C,X | --frequency GHZ] [--csv FILE] [--plot FILE.png]\n"
-    "                       [--variables LIST] [--json] [scattering options]\n"
-    "\n"
-    "Vary one parameter of the rain or of the scattering over a range, hold the rest at\n"
-    "a base, and give the radar variables at every value and band: a CSV (one row per\n"
-    "value and band) or JSON, and optionally a picture (one panel per variable, one line\n"
-    "per band).\n"
-    "\n"
-    "What to vary:\n"
-    "  --vary NAME            d0, dm, mu, nw (base: a normalised gamma; mu also works\n"
-    "                         for --dsd gamma), rain-rate (base: marshall-palmer),\n"
-    "                         temperature, elevation, canting-sd (any base)\n"
-    "                         The value replaces the base's (a preset's too); a DSD\n"
-    "                         parameter that is varied need not be given with --dsd.\n"
-    "  --from X --to Y        the range, X < Y, in the parameter's unit (mm, m^-3 mm^-1,\n"
-    "                         mm/h, C, deg)\n"
-    "  --steps N              number of values, ends included (default 25; 2..1000)\n"
-    "  --log                  logarithmic spacing (X > 0), useful for nw and rain-rate;\n"
-    "                         the picture then has a log x axis\n"
-    "\n"
-    "Output:\n"
-    "  --csv FILE             write the CSV to FILE (default: CSV on stdout). Columns:\n"
-    "                         <varied>_<unit>, band, frequency_ghz, zh_dbz, zv_dbz,\n"
-    "                         zdr_db, kdp_deg_km, rhohv, delta_hv_deg, ldr_db, ah_db_km,\n"
-    "                         av_db_km, adp_db_km, then the DSD's own moments\n"
-    "                         dsd_rain_rate_mm_h, dsd_lwc_g_m3, dsd_dm_mm, dsd_d0_mm,\n"
-    "                         dsd_nw_m3_mm\n"
-    "  --plot FILE            picture, format from the extension: .png, .svg or .pdf\n"
-    "  --variables LIST       what the picture shows (default zh,zdr,kdp,ah): zh, zv, zdr,\n"
-    "                         kdp, rhohv, delta, ldr, ah, adp, rain-rate\n"
-    "  --json                 JSON on stdout instead of the CSV (docs/guide.md)\n"
-    "\n"
-    "%s"
-    "Scattering options: as for `rainprint gate` (--band takes a list, default S,C,X):\n"
-    "  --band S,C,X --frequency GHZ --temperature C --shape MODEL --axis-ratio R\n"
-    "  --canting-sd DEG --canting-model planar|3d --canting-approx --elevation DEG\n"
-    "  --method tmatrix|rayleigh --help\n"
-    "\n"
-    "Examples:\n"
-    "  rainprint curve --preset gentle-stratiform --vary d0 --from 0.5 --to 3 \\\n"
-    "      --plot zdr_vs_d0.png --variables zdr,kdp,ah --csv zdr_vs_d0.csv\n"
-    "  rainprint curve --dsd marshall-palmer --vary rain-rate --from 1 --to 100 --log \\\n"
-    "      --band X --json\n";
 
 /* ---- options ------------------------------------------------------------------------ */
 
-enum {
-  OPT_VARY = 1200, OPT_FROM, OPT_TO, OPT_STEPS, OPT_LOG, OPT_CSV, OPT_PLOT, OPT_VARIABLES
-};
-
 typedef struct {
   vary_kind vary;
-  int have_vary, have_from, have_to, log;
+  int log;
   double from, to;
   long steps;
-  const char *csv_path, *plot_path, *variables;
-  int vars[N_PLOTVAR];
+  const char *csv_path, *plot_path;
+  rp_field_id vars[N_PLOTVAR];
   int n_vars;
 } curve_opts;
 
 /* Bit of a DSD parameter option in rp_cli_dsd.given (as cli_dsd.c). */
 static unsigned given_bit(int code) { return 1u << (code - RP_OPT_N0); }
-
-static int parse_vary(const char *arg, curve_opts *c) {
-  for (int k = 0; k < N_VARY; k++) {
-    if (strcmp(arg, VARY[k].name) == 0) {
-      c->vary = (vary_kind)k;
-      c->have_vary = 1;
-      return 0;
-    }
-  }
-  return rp_cli_fail(CMD, RP_EINVAL,
-                     "--vary: unknown parameter '%s' (expected d0, dm, mu, nw, rain-rate, "
-                     "temperature, elevation or canting-sd)",
-                     arg);
-}
-
-static int parse_variables(const char *text, curve_opts *c) {
-  c->n_vars = 0;
-  const char *p = text;
-  while (1) {
-    const char *comma = strchr(p, ',');
-    const size_t len = comma ? (size_t)(comma - p) : strlen(p);
-    int found = -1;
-    for (int k = 0; k < N_PLOTVAR; k++)
-      if (strlen(PVAR[k].name) == len && strncmp(p, PVAR[k].name, len) == 0) found = k;
-    if (found < 0)
-      return rp_cli_fail(CMD, RP_EINVAL,
-                         "--variables: unknown variable '%.*s' in '%s' (expected a list of zh, "
-                         "zv, zdr, kdp, rhohv, delta, ldr, ah, adp, rain-rate)",
-                         (int)len, p, text);
-    for (int j = 0; j < c->n_vars; j++)
-      if (c->vars[j] == found)
-        return rp_cli_fail(CMD, RP_EINVAL, "--variables: '%s' appears twice in '%s'",
-                           PVAR[found].name, text);
-    c->vars[c->n_vars++] = found;
-    if (comma == NULL) break;
-    p = comma + 1;
-  }
-  return 0;
-}
 
 /* ---- the values and the base -------------------------------------------------------- */
 
@@ -212,53 +145,24 @@ static int is_normalized(rp_dsd_model m) {
   return m == RP_DSD_NORMALIZED_GAMMA_D0 || m == RP_DSD_NORMALIZED_GAMMA_DM;
 }
 
+/* The library's parameter of a DSD variation (V_D0..V_RAIN_RATE in the same order). */
+static rp_dsd_param dsd_param(vary_kind v) { return (rp_dsd_param)((int)v - (int)V_D0); }
+
 /* Does the base DSD take the varied parameter? 0 or an exit code after a message. */
 static int check_base(vary_kind v, const rp_cli_dsd_built *b) {
-  const rp_dsd_model m = b->dsd.model;
-  const char *need = NULL;
-  switch (v) {
-    case V_D0: case V_DM: case V_NW:
-      if (!is_normalized(m)) need = "a normalised gamma (--dsd normalized-gamma or such a preset)";
-      break;
-    case V_MU:
-      if (!is_normalized(m) && m != RP_DSD_GAMMA)
-        need = "a gamma or normalised gamma (--dsd gamma, --dsd normalized-gamma or such a preset)";
-      break;
-    case V_RAIN_RATE:
-      if (m != RP_DSD_MARSHALL_PALMER)
-        need = "marshall-palmer (--dsd marshall-palmer or such a preset)";
-      break;
-    default:
-      break;
-  }
-  if (need == NULL) return 0;
-  return rp_cli_fail(CMD, RP_EINVAL, "--vary %s needs a base DSD that is %s; '%s' is %s",
-                     VARY[v].name, need, b->label, rp_dsd_model_name(m));
+  if (VARY[v].dsd_code == 0) return 0;
+  rp_error err = {0};
+  if (rp_dsd_param_check_base(dsd_param(v), &b->dsd, &err) == RP_OK) return 0;
+  return rp_cli_fail(CMD, err.status, "--vary %s: %s ('%s')", VARY[v].name, err.msg, b->label);
 }
 
 /* The base DSD with the varied parameter set to x, truncated as the base. */
 static rp_status make_dsd(vary_kind v, const rp_dsd *base, double x, rp_dsd *out, rp_error *err) {
-  rp_status s;
-  const int dm_form = base->model == RP_DSD_NORMALIZED_GAMMA_DM;
-  switch (v) {
-    case V_D0: s = rp_dsd_normalized_gamma_d0(out, base->nw_m3_mm, x, base->mu, err); break;
-    case V_DM: s = rp_dsd_normalized_gamma_dm(out, base->nw_m3_mm, x, base->mu, err); break;
-    case V_NW:
-      s = dm_form ? rp_dsd_normalized_gamma_dm(out, x, base->dm_mm, base->mu, err)
-                  : rp_dsd_normalized_gamma_d0(out, x, base->d0_mm, base->mu, err);
-      break;
-    case V_MU:
-      if (base->model == RP_DSD_GAMMA)
-        s = rp_dsd_gamma(out, base->n0, x, base->lambda_per_mm, err);
-      else
-        s = dm_form ? rp_dsd_normalized_gamma_dm(out, base->nw_m3_mm, base->dm_mm, x, err)
-                    : rp_dsd_normalized_gamma_d0(out, base->nw_m3_mm, base->d0_mm, x, err);
-      break;
-    case V_RAIN_RATE: s = rp_dsd_marshall_palmer(out, x, err); break;
-    default: *out = *base; return RP_OK;
+  if (VARY[v].dsd_code == 0) {
+    *out = *base;
+    return RP_OK;
   }
-  if (s != RP_OK) return s;
-  return rp_dsd_set_truncation(out, base->dmin_mm, base->dmax_mm, err);
+  return rp_dsd_with_param(base, dsd_param(v), x, out, err);
 }
 
 /* The field of a scattering configuration that v varies, or NULL for a DSD parameter. */
@@ -279,32 +183,14 @@ static void set_scatter(vary_kind v, double x, rp_drop_config *cfg) {
 
 /* ---- output -------------------------------------------------------------------------- */
 
-static const char *const RESULT_COLUMNS[] = {
-    "zh_dbz", "zv_dbz", "zdr_db", "kdp_deg_km", "rhohv", "delta_hv_deg", "ldr_db",
-    "ah_db_km", "av_db_km", "adp_db_km"};
-static const size_t RESULT_OFFSETS[] = {
-    offsetof(rp_gate_result, zh_dbz), offsetof(rp_gate_result, zv_dbz),
-    offsetof(rp_gate_result, zdr_db), offsetof(rp_gate_result, kdp_deg_km),
-    offsetof(rp_gate_result, rhohv), offsetof(rp_gate_result, delta_hv_deg),
-    offsetof(rp_gate_result, ldr_db), offsetof(rp_gate_result, ah_db_km),
-    offsetof(rp_gate_result, av_db_km), offsetof(rp_gate_result, adp_db_km)};
-#define N_RESULT_COLUMNS (sizeof RESULT_COLUMNS / sizeof RESULT_COLUMNS[0])
-static const char *const MOMENT_COLUMNS[] = {"dsd_rain_rate_mm_h", "dsd_lwc_g_m3", "dsd_dm_mm",
-                                             "dsd_d0_mm", "dsd_nw_m3_mm"};
-#define N_MOMENT_COLUMNS (sizeof MOMENT_COLUMNS / sizeof MOMENT_COLUMNS[0])
+/* CSV columns / JSON keys: the radar fields' keys, then these DSD moments prefixed "dsd_". */
+static const rp_field_id MOMENT_FIELDS[] = {RP_FIELD_RAIN_RATE, RP_FIELD_LWC, RP_FIELD_DM,
+                                            RP_FIELD_D0, RP_FIELD_NW};
+#define N_MOMENT_COLUMNS (sizeof MOMENT_FIELDS / sizeof MOMENT_FIELDS[0])
 
-static double result_field(const rp_gate_result *r, size_t offset) {
-  double x;
-  memcpy(&x, (const char *)r + offset, sizeof x);
-  return x;
-}
-
-static void moment_fields(const rp_dsd_moments *m, double out[N_MOMENT_COLUMNS]) {
-  out[0] = m->rain_rate_mm_h;
-  out[1] = m->lwc_g_m3;
-  out[2] = m->dm_mm;
-  out[3] = m->d0_mm;
-  out[4] = m->nw_m3_mm;
+static const char *moment_column(size_t k, char *buf, size_t n) {
+  snprintf(buf, n, "dsd_%s", rp_field_get(MOMENT_FIELDS[k])->key);
+  return buf;
 }
 
 static const char *band_name(const rp_gate_request *req, int b, char *buf, size_t n) {
@@ -324,20 +210,21 @@ static void csv_number(FILE *f, double x) {
 
 static void write_csv(FILE *f, const curve_opts *c, const rp_gate_request *req, const double *x,
                       const rp_gate_run_result *res) {
+  char col[48];
   fprintf(f, "%s,band,frequency_ghz", VARY[c->vary].column);
-  for (size_t k = 0; k < N_RESULT_COLUMNS; k++) fprintf(f, ",%s", RESULT_COLUMNS[k]);
-  for (size_t k = 0; k < N_MOMENT_COLUMNS; k++) fprintf(f, ",%s", MOMENT_COLUMNS[k]);
+  for (int id = RP_FIELD_FIRST_RADAR; id <= RP_FIELD_LAST_RADAR; id++)
+    fprintf(f, ",%s", rp_field_get((rp_field_id)id)->key);
+  for (size_t k = 0; k < N_MOMENT_COLUMNS; k++) fprintf(f, ",%s", moment_column(k, col, sizeof col));
   fputc('\n', f);
   char buf[32];
   for (size_t i = 0; i < (size_t)c->steps; i++) {
-    double mom[N_MOMENT_COLUMNS];
-    moment_fields(&res[i].moments, mom);
     for (int b = 0; b < req->n_bands; b++) {
       fprintf(f, "%.10g,%s", x[i], band_name(req, b, buf, sizeof buf));
       csv_number(f, req->freq_ghz[b]);
-      for (size_t k = 0; k < N_RESULT_COLUMNS; k++)
-        csv_number(f, result_field(&res[i].r[b], RESULT_OFFSETS[k]));
-      for (size_t k = 0; k < N_MOMENT_COLUMNS; k++) csv_number(f, mom[k]);
+      for (int id = RP_FIELD_FIRST_RADAR; id <= RP_FIELD_LAST_RADAR; id++)
+        csv_number(f, rp_field_value((rp_field_id)id, &res[i].r[b], NULL));
+      for (size_t k = 0; k < N_MOMENT_COLUMNS; k++)
+        csv_number(f, rp_field_value(MOMENT_FIELDS[k], NULL, &res[i].moments));
       fputc('\n', f);
     }
   }
@@ -382,19 +269,19 @@ static json_t *curve_json(const curve_opts *c, const rp_gate_request *req,
   for (int b = 0; b < req->n_bands; b++)
     json_array_append_new(bands, json_pack("{s:o, s:o}", "band", band_json(req, b),
                                            "frequency_ghz", rp_json_real(req->freq_ghz[b])));
+  char col[48];
   for (size_t i = 0; i < (size_t)c->steps; i++) {
-    double mom[N_MOMENT_COLUMNS];
-    moment_fields(&res[i].moments, mom);
     for (int b = 0; b < req->n_bands; b++) {
       json_t *r = json_object();
       json_object_set_new(r, VARY[c->vary].column, rp_json_real(x[i]));
       json_object_set_new(r, "band", band_json(req, b));
       json_object_set_new(r, "frequency_ghz", rp_json_real(req->freq_ghz[b]));
-      for (size_t k = 0; k < N_RESULT_COLUMNS; k++)
-        json_object_set_new(r, RESULT_COLUMNS[k],
-                            rp_json_real(result_field(&res[i].r[b], RESULT_OFFSETS[k])));
+      for (int id = RP_FIELD_FIRST_RADAR; id <= RP_FIELD_LAST_RADAR; id++)
+        json_object_set_new(r, rp_field_get((rp_field_id)id)->key,
+                            rp_json_real(rp_field_value((rp_field_id)id, &res[i].r[b], NULL)));
       for (size_t k = 0; k < N_MOMENT_COLUMNS; k++)
-        json_object_set_new(r, MOMENT_COLUMNS[k], rp_json_real(mom[k]));
+        json_object_set_new(r, moment_column(k, col, sizeof col),
+                            rp_json_real(rp_field_value(MOMENT_FIELDS[k], NULL, &res[i].moments)));
       json_object_set_new(r, "table", json_string(rp_table_origin_name(res[i].origin[b])));
       json_array_append_new(rows, r);
     }
@@ -482,33 +369,34 @@ static int write_plot(const curve_opts *c, const rp_gate_request *req,
       snprintf(labels[b], sizeof labels[b], "%.4g GHz", req->freq_ghz[b]);
   }
   for (size_t p = 0; p < nv; p++) {
-    const plot_var pv = (plot_var)c->vars[p];
-    /* The DSD's rain rate does not depend on the band: one line. */
-    const size_t ns = pv == P_RAIN_RATE ? 1 : nb;
+    const rp_field_id pv = c->vars[p];
+    const rp_field_desc *fd = rp_field_get(pv);
+    const int dsd_field = fd->source == RP_FIELD_OF_MOMENTS;
+    /* A DSD quantity (the rain rate) does not depend on the band: one line. */
+    const size_t ns = dsd_field ? 1 : nb;
     int all_positive = 1;
     for (size_t b = 0; b < ns; b++) {
       double *yy = y + (p * nb + b) * n;
       for (size_t i = 0; i < n; i++) {
-        yy[i] = pv == P_RAIN_RATE ? res[i].moments.rain_rate_mm_h
-                                  : result_field(&res[i].r[b], PVAR[pv].offset);
+        yy[i] = rp_field_value(pv, &res[i].r[b], &res[i].moments);
         if (!(yy[i] > 0.0)) all_positive = 0;
       }
       rp_plot_series *s = &series[p * nb + b];
-      s->label = pv == P_RAIN_RATE ? "all bands" : labels[b];
+      s->label = dsd_field ? "all bands" : labels[b];
       s->x = x;
       s->y = yy;
       s->n = n;
       s->style = n <= 30 ? RP_PLOT_LINE_MARKERS : RP_PLOT_LINE;
     }
     rp_plot_panel *pan = &panels[p];
-    if (p == 0) snprintf(title, sizeof title, "%s: %s", base_txt, PVAR[pv].title);
-    pan->title = p == 0 ? title : PVAR[pv].title;
+    if (p == 0) snprintf(title, sizeof title, "%s: %s", base_txt, fd->long_name);
+    pan->title = p == 0 ? title : fd->long_name;
     pan->xlabel = VARY[c->vary].xlabel;
-    pan->ylabel = PVAR[pv].ylabel;
+    pan->ylabel = fd->plot_label;
     pan->series = &series[p * nb];
     pan->n_series = ns;
     pan->log_x = c->log;
-    pan->log_y = c->log && PVAR[pv].extensive && all_positive;
+    pan->log_y = c->log && fd->extensive && all_positive;
   }
   /* Up to 3 panels side by side; 4 as 2 x 2; more in rows of 3. */
   const int ncols = nv <= 3 ? (int)nv : (nv == 4 ? 2 : 3);
@@ -526,77 +414,37 @@ static int write_plot(const curve_opts *c, const rp_gate_request *req,
 
 /* ---- the command ----------------------------------------------------------------------- */
 
-static int parse(int argc, char **argv, curve_opts *c, rp_cli_scatter *s, rp_cli_dsd *o,
-                 const char **band_list) {
-  static const struct option longopts[] = {
-      RP_CLI_SCATTER_LONGOPTS,
-      RP_CLI_DSD_LONGOPTS,
-      {"vary", required_argument, NULL, OPT_VARY},
-      {"from", required_argument, NULL, OPT_FROM},
-      {"to", required_argument, NULL, OPT_TO},
-      {"steps", required_argument, NULL, OPT_STEPS},
-      {"log", no_argument, NULL, OPT_LOG},
-      {"csv", required_argument, NULL, OPT_CSV},
-      {"plot", required_argument, NULL, OPT_PLOT},
-      {"variables", required_argument, NULL, OPT_VARIABLES},
-      {0, 0, 0, 0}};
-  int code;
-  optind = 1;
-  opterr = 0;
-  while ((code = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
-    switch (code) {
-      case '?': case ':':
-        return rp_cli_fail(CMD, RP_EINVAL, "unknown or incomplete option '%s' (see --help)",
-                           argv[optind - 1]);
-      case RP_OPT_BAND: *band_list = optarg; continue;
-      case OPT_VARY: if (parse_vary(optarg, c)) return RP_EXIT_USAGE; continue;
-      case OPT_FROM:
-        if (rp_cli_parse_double(CMD, "from", optarg, &c->from)) return RP_EXIT_USAGE;
-        c->have_from = 1;
-        continue;
-      case OPT_TO:
-        if (rp_cli_parse_double(CMD, "to", optarg, &c->to)) return RP_EXIT_USAGE;
-        c->have_to = 1;
-        continue;
-      case OPT_STEPS:
-        if (rp_cli_parse_long(CMD, "steps", optarg, &c->steps)) return RP_EXIT_USAGE;
-        continue;
-      case OPT_LOG: c->log = 1; continue;
-      case OPT_CSV: c->csv_path = optarg; continue;
-      case OPT_PLOT: c->plot_path = optarg; continue;
-      case OPT_VARIABLES: c->variables = optarg; continue;
-      default: break;
-    }
-    int h = rp_cli_dsd_option(CMD, o, code, optarg);
-    if (h == 0) h = rp_cli_scatter_option(CMD, s, code, optarg);
-    if (h < 0) return -h;
-  }
-  if (s->help) return 0;
-  if (optind < argc) return rp_cli_fail(CMD, RP_EINVAL, "unexpected argument '%s'", argv[optind]);
-  return 0;
-}
-
-/* Everything about the range and the outputs that can be checked before building. */
-static int check_opts(curve_opts *c) {
-  if (!c->have_vary)
-    return rp_cli_fail(CMD, RP_EINVAL, "--vary NAME is required (d0, dm, mu, nw, rain-rate, "
-                                       "temperature, elevation or canting-sd)");
-  if (!c->have_from || !c->have_to)
+/* Options into c; everything about the range and the outputs that can be checked before
+ * building. 0 or an exit code. */
+static int read_opts(const rp_opts *o, curve_opts *c) {
+  int rc;
+  if ((rc = rp_opts_required(o, "vary"))) return rc;
+  c->vary = (vary_kind)rp_opts_enum(o, "vary", 0);
+  if (!rp_opts_given(o, "from") || !rp_opts_given(o, "to"))
     return rp_cli_fail(CMD, RP_EINVAL, "--vary %s needs --from and --to", VARY[c->vary].name);
-  if (c->steps < 2 || c->steps > STEPS_MAX)
-    return rp_cli_fail(CMD, RP_EINVAL, "--steps %ld outside [2, %d]", c->steps, STEPS_MAX);
+  c->from = rp_opts_double(o, "from", 0.0);
+  c->to = rp_opts_double(o, "to", 0.0);
+  c->steps = rp_opts_long(o, "steps", STEPS_DEFAULT);
+  c->log = rp_opts_given(o, "log");
+  c->csv_path = rp_opts_string(o, "csv", NULL);
+  c->plot_path = rp_opts_string(o, "plot", NULL);
   if (!(c->from < c->to))
     return rp_cli_fail(CMD, RP_EINVAL, "bad range: --from %g must be less than --to %g", c->from,
                        c->to);
   if (c->log && !(c->from > 0.0))
     return rp_cli_fail(CMD, RP_EINVAL, "--log needs --from > 0 (got %g)", c->from);
   if (c->plot_path != NULL && rp_cli_check_plot_path(CMD, c->plot_path)) return RP_EXIT_USAGE;
-  if (c->variables != NULL && c->plot_path == NULL)
-    return rp_cli_fail(CMD, RP_EINVAL, "--variables chooses what --plot draws; give --plot FILE");
-  if (parse_variables(c->variables ? c->variables : "zh,zdr,kdp,ah", c)) return RP_EXIT_USAGE;
-  if (c->csv_path != NULL && c->csv_path[0] == '\0')
-    return rp_cli_fail(CMD, RP_EINVAL, "--csv: empty file name");
-  return 0;
+  if ((rc = rp_opts_requires(o, "variables", "plot"))) return rc;
+  const rp_opts_value *v = rp_opts_get(o, "variables");
+  static const char *const defaults[] = {"zh", "zdr", "kdp", "ah"};
+  const size_t n = v->given ? v->n_items : 4;
+  c->n_vars = 0;
+  for (size_t i = 0; i < n; i++) {
+    const int id = rp_field_find(v->given ? v->items[i] : defaults[i]);
+    if (id < 0) return rp_cli_fail(CMD, RP_EINVAL, "--variables: no field '%s'", v->items[i]);
+    c->vars[c->n_vars++] = (rp_field_id)id;
+  }
+  return rp_cli_check_outputs(CMD, c->csv_path, c->plot_path);
 }
 
 /* A varied DSD parameter that the model takes but the user did not give: the first
@@ -645,13 +493,19 @@ static int compute(const curve_opts *c, const rp_gate_request *req, const rp_cli
       rc = rp_cli_fail(CMD, s, "--vary %s at %g%s%s: %s", vi->name, x[i], vi->unit[0] ? " " : "",
                        vi->unit, err.msg);
   }
+  rp_gate_session session = {0};
+  rp_cli_progress bar;
+  rp_cli_progress_start(&bar, CMD, "values", n);
   for (size_t i = 0; i < n && rc == 0; i++) {
     rp_gate_request r = *req;
     set_scatter(c->vary, x[i], &r.cfg);
     char where[96];
     snprintf(where, sizeof where, "%s at %s = %g", CMD, vi->column, x[i]);
-    rc = rp_gate_run(where, &r, &dsds[i], &res[i]);
+    rc = rp_gate_run(where, &session, &r, &dsds[i], &res[i]);
+    rp_cli_progress_step(&bar, i + 1);
   }
+  rp_cli_progress_end(&bar);
+  rp_gate_session_close(&session);
   free(dsds);
   return rc;
 }
@@ -688,53 +542,41 @@ static int emit(const curve_opts *c, const rp_gate_request *req, const rp_cli_ds
 }
 
 int rp_cmd_curve(int argc, char **argv) {
+  rp_opts o;
+  int rc = rp_opts_parse(&curve_cmd, argc, argv, &o);
+  if (rc != RP_OPTS_GO_ON) return rc;
   curve_opts c;
   memset(&c, 0, sizeof c);
-  c.steps = STEPS_DEFAULT;
+  if ((rc = read_opts(&o, &c))) return rc;
+  rp_cli_dsd d;
+  if ((rc = rp_cli_dsd_from_opts(&o, &d))) return rc;
   rp_cli_scatter s;
-  rp_cli_dsd o;
   rp_cli_scatter_init(&s);
-  rp_cli_dsd_init(&o);
-  const char *band_list = NULL;
-  int rc = parse(argc, argv, &c, &s, &o, &band_list);
-  if (rc) return rc;
-  if (s.help) {
-    printf(curve_help, rp_cli_dsd_help);
-    return RP_EXIT_OK;
-  }
-  if ((rc = check_opts(&c))) return rc;
-  if (band_list != NULL && s.have_frequency)
-    return rp_cli_fail(CMD, RP_EINVAL, "give either --band or --frequency, not both");
-
   rp_gate_request req;
   memset(&req, 0, sizeof req);
-  if (s.have_frequency) {
-    req.n_bands = 1;
-    req.freq_ghz[0] = s.cfg.freq_ghz;
-    req.band[0] = NULL; /* an explicit frequency has no band letter (JSON null) */
-  } else {
-    req.n_bands = rp_cli_parse_bands(CMD, band_list ? band_list : "S,C,X", req.freq_ghz, req.band,
-                                     RP_GATE_MAX_BANDS);
-    if (req.n_bands < 0) return RP_EXIT_USAGE;
-    s.cfg.freq_ghz = req.freq_ghz[0];
-  }
+  req.n_bands = rp_cli_bands_from_opts(&o, "S,C,X", req.freq_ghz, req.band, RP_GATE_MAX_BANDS);
+  if (req.n_bands < 0) return -req.n_bands;
   /* The varied scattering parameter replaces the base's, so the base is checked with
    * the default value in its place; every varied value is checked in compute(). */
   rp_drop_config def;
   rp_drop_config_default(&def);
+  if ((rc = rp_cli_scatter_apply(&o, &s))) {
+    /* a bad value of the varied parameter's own option is reported as it is */
+    return rc;
+  }
   double *field = scatter_field(c.vary, &s.cfg);
   if (field != NULL) *field = *scatter_field(c.vary, &def);
   if ((rc = rp_cli_scatter_finish(CMD, &s))) return rc;
   if (s.cfg.method == RP_METHOD_MIE)
     return rp_cli_fail(CMD, RP_EINVAL, "--method mie is for single drops; use tmatrix or rayleigh");
   req.cfg = s.cfg;
-  req.kw2 = o.kw2;
-  req.correct_fall_speed = !isnan(o.height_km);
-  req.height_km = o.height_km;
+  req.kw2 = d.kw2;
+  req.correct_fall_speed = !isnan(d.height_km);
+  req.height_km = d.height_km;
 
-  stand_in(&c, &o);
+  stand_in(&c, &d);
   rp_cli_dsd_built base;
-  rc = rp_cli_dsd_build(CMD, &o, &base);
+  rc = rp_cli_dsd_build(CMD, &d, &base);
   if (rc == 0) rc = check_base(c.vary, &base);
   const size_t n = (size_t)c.steps;
   double *x = NULL;
@@ -749,7 +591,7 @@ int rp_cmd_curve(int argc, char **argv) {
     fill_values(&c, x);
     rc = compute(&c, &req, &base, x, res);
   }
-  if (rc == 0) rc = emit(&c, &req, &base, x, res, s.json);
+  if (rc == 0) rc = emit(&c, &req, &base, x, res, rp_opts_given(&o, "json"));
   free(x);
   free(res);
   rp_cli_dsd_release(&base);

@@ -6,37 +6,26 @@
 #include "cli/gate_run.h"
 #include "rainprint/presets.h"
 
-static const char presets_help[] =
-    "Usage: rainprint presets [--json] [--verbose]\n"
-    "\n"
-    "List the named rains (dsd-presets/*.yaml, or $RAINPRINT_PRESETS) with their DSD\n"
-    "parameters and, at S band (10 C, default shape and canting), R, Zh, ZDR and KDP.\n"
-    "\n"
-    "  --verbose   also print each preset's description and source\n"
-    "  --json      machine-readable output\n"
-    "\n"
-    "Example:\n"
-    "  rainprint presets --verbose\n";
+static const rp_opts_spec presets_opts[] = {
+    RP_OPTS_FLAG_ROW("verbose", "also print each preset's description and source"),
+    RP_OPTS_FLAG_ROW("json", "machine-readable output (JSON on stdout)"), RP_OPTS_END};
+
+static const rp_opts_command presets_cmd = {
+    .cmd = "presets",
+    .usage = "presets [--json] [--verbose]",
+    .about = "List the named rains (dsd-presets/*.yaml, or $RAINPRINT_PRESETS) with their DSD\n"
+             "parameters and, at S band (10 C, default shape and canting), R, Zh, ZDR and KDP.",
+    .examples = "  rainprint presets --verbose",
+    .tables = {presets_opts},
+    .titles = {"Options"},
+};
 
 int rp_cmd_presets(int argc, char **argv) {
-  static const struct option longopts[] = {{"json", no_argument, NULL, 'j'},
-                                           {"verbose", no_argument, NULL, 'v'},
-                                           {"help", no_argument, NULL, 'h'},
-                                           {0, 0, 0, 0}};
-  int json = 0, verbose = 0, code;
-  optind = 1;
-  opterr = 0;
-  while ((code = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
-    switch (code) {
-      case 'j': json = 1; break;
-      case 'v': verbose = 1; break;
-      case 'h': fputs(presets_help, stdout); return RP_EXIT_OK;
-      default:
-        return rp_cli_fail("presets", RP_EINVAL, "unknown option '%s' (see --help)", argv[optind - 1]);
-    }
-  }
-  if (optind < argc)
-    return rp_cli_fail("presets", RP_EINVAL, "unexpected argument '%s'", argv[optind]);
+  rp_opts o;
+  int rc = rp_opts_parse(&presets_cmd, argc, argv, &o);
+  if (rc != RP_OPTS_GO_ON) return rc;
+  rc = 0;
+  const int json = rp_opts_given(&o, "json"), verbose = rp_opts_given(&o, "verbose");
   rp_preset *list = NULL;
   size_t n = 0;
   rp_error err = {0};
@@ -55,22 +44,22 @@ int rp_cmd_presets(int argc, char **argv) {
   if (!json)
     printf("%-24s %-18s %10s %7s %6s %8s %8s %7s %8s\n", "name", "model", "Nw/N0", "D0 mm",
            "mu", "R mm/h", "Zh dBZ", "ZDR dB", "KDP d/km");
-  int rc = 0;
+  rp_gate_session session = {0};
   for (size_t i = 0; i < n && rc == 0; i++) {
     rp_cli_dsd_built b;
     memset(&b, 0, sizeof b);
     b.dsd = list[i].dsd;
     snprintf(b.label, sizeof b.label, "%s", list[i].name);
     rp_gate_run_result res;
-    rc = rp_gate_run("presets", &req, &b.dsd, &res);
+    rc = rp_gate_run("presets", &session, &req, &b.dsd, &res);
     if (rc) break;
     const rp_dsd *d = &b.dsd;
     if (json) {
-      json_t *o = json_pack("{s:s, s:s, s:s, s:o, s:o}", "name", list[i].name, "description",
+      json_t *item = json_pack("{s:s, s:s, s:s, s:o, s:o}", "name", list[i].name, "description",
                             list[i].description, "source", list[i].source, "dsd",
                             rp_gate_dsd_json(&req, &b, &res.moments), "s_band",
                             rp_gate_result_json(&req, 0, &res.r[0]));
-      json_array_append_new(arr, o);
+      json_array_append_new(arr, item);
     } else {
       const int normalized = d->model == RP_DSD_NORMALIZED_GAMMA_D0 || d->model == RP_DSD_NORMALIZED_GAMMA_DM;
       printf("%-24s %-18s %10.4g %7.3f %6.2f %8.2f %8.2f %7.3f %8.4f\n", list[i].name,
@@ -80,6 +69,7 @@ int rp_cmd_presets(int argc, char **argv) {
       if (verbose) printf("    %s\n    source: %s\n", list[i].description, list[i].source);
     }
   }
+  rp_gate_session_close(&session);
   rp_preset_list_free(list);
   if (rc) {
     json_decref(arr);

@@ -1,12 +1,15 @@
 /* cmd_relate.c — `rainprint relate`: fit rain relations for one band from a seeded
- * ensemble of DSDs or from measured spectra, with skill on held-out samples. Parsing,
- * the table lookup and output only; the computing is in relate.h. */
+ * ensemble of DSDs or from measured spectra, with skill on held-out samples. Parsing and
+ * output only: the whole pipeline is one library call (rp_relate_run on a radar model
+ * whose tables come from the store: shipped, cached, computed). */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
 
 #include "cli/cli.h"
+#include "rainprint/names.h"
+#include "rainprint/radar_model.h"
 #include "rainprint/plot.h"
 #include "rainprint/relate.h"
 #include "rainprint/shape.h"
@@ -16,59 +19,75 @@
 #include "rainprint/spectrum.h"
 #include "rainprint/table_file.h"
 
-static const char relate_help[] =
-    "Usage: rainprint relate [--ensemble SIZE --climate NAME --seed N | --spectra FILE.csv]\n"
-    "                        [--band B | --frequency GHZ] [options]\n"
-    "\n"
-    "Fit rain relations for one radar band: R(Zh) (also as Zh = a R^b), Zh(R), R(KDP),\n"
-    "R(Zh,ZDR), R(KDP,ZDR), AH(KDP), ADP(KDP), AH(Zh), Dm(ZDR). Each DSD gives R, Zh, ZDR,\n"
-    "KDP, AH, ADP, Dm, D0, Nw, LWC; the power laws are fitted in log space on 3 of every 4\n"
-    "samples (95 %% intervals) and scored on the held-out 4th (bias, RMSE, FSE, corr).\n"
-    "Zh is linear (mm^6 m^-3), Zdr = 10^(ZDR/10) in the two-predictor relations, ZDR in dB\n"
-    "in Dm(ZDR), KDP in deg/km, AH and ADP in dB/km (one way), R in mm/h.\n"
-    "\n"
-    "DSDs (one source):\n"
-    "  --ensemble SIZE        members drawn from a climate (default %d; at least %d)\n"
-    "  --climate NAME         built-in climate: maritime, continental, mixed (default)\n"
-    "  --climate-file F.yaml  a climate of your own (examples: dsd-presets/climates/)\n"
-    "  --seed N               seed of the draw (default 1; stored in the output)\n"
-    "  --spectra FILE.csv     measured spectra instead, one DSD per row (spectrum CSV format)\n"
-    "Quality filters for --spectra (removed rows are counted and reported):\n"
-    "  --max-diameter MM      largest upper bin edge with drops (default %g; at most the\n"
-    "                         table's 8 mm)\n"
-    "  --min-nt M3            minimum total concentration Nt, m^-3 (default %g)\n"
-    "  --min-rain-rate MM_H   minimum rain rate (default %g)\n"
-    "Relations and thresholds:\n"
-    "  --relations LIST       e.g. \"R(KDP),R(Zh,ZDR),AH(KDP)\" (case-sensitive; default all)\n"
-    "  --min-zh DBZ           relations with Zh use samples with Zh >= DBZ (default %g)\n"
-    "  --min-kdp DEG_KM       relations with KDP: KDP >= DEG_KM (default %g)\n"
-    "  --min-zdr DB           relations with ZDR: ZDR >= DB (default %g)\n"
-    "  --nonlinear            refine each fit by nonlinear least squares on the variable\n"
-    "                         itself (fits the mean; default: log-space fit, the median)\n"
-    "  --kw2 X                |K_w|^2 used to form Z (default 0.93)\n"
-    "Outputs:\n"
-    "  --json                 machine-readable output\n"
-    "  --csv FILE             every sample with its DSD moments and radar variables\n"
-    "  --plot FILE.png        each relation over its samples, and fitted vs true (1:1)\n"
-    "                         (.svg and .pdf also work)\n"
-    "Scattering (as for `rainprint drop`; one band, default C):\n"
-    "  --band S|C|X|Ku|Ka --frequency GHZ --temperature C --shape MODEL --axis-ratio R\n"
-    "  --canting-sd DEG --canting-model planar|3d --canting-approx --elevation DEG\n"
-    "  --method tmatrix|rayleigh --help\n"
-    "\n"
-    "Caution: " RP_RELATE_CAUTION "\n"
-    "\n"
-    "Examples:\n"
-    "  rainprint relate --band X --ensemble 20000 --climate maritime --seed 7\n"
-    "  rainprint relate --band S --relations \"R(KDP),AH(KDP)\" --json\n"
-    "  # in the source folder, with the tests' invented disdrometer record:\n"
-    "  rainprint relate --band C --spectra tests/data/relate/spectra_brackenford.csv \\\n"
-    "      --csv samples.csv --plot fits.png\n";
+#define RP_STR(x) #x
+#define RP_XSTR(x) RP_STR(x)
 
-enum {
-  OPT_ENSEMBLE = 1200, OPT_CLIMATE, OPT_CLIMATE_FILE, OPT_SEED, OPT_SPECTRA, OPT_RELATIONS,
-  OPT_CSV, OPT_PLOT, OPT_NONLINEAR, OPT_MIN_ZH, OPT_MIN_KDP, OPT_MIN_ZDR, OPT_MIN_NT,
-  OPT_MIN_RAIN, OPT_MAX_D, OPT_KW2
+#define ENSEMBLE_MAX 2000000L
+
+static rp_status climate_resolve(const char *text, int *value, rp_error *err) {
+  size_t n = 0;
+  const char *const *names = rp_climate_names(&n);
+  return rp_names_find(names, n, NULL, 0, "climate", text, value, err);
+}
+
+static const rp_opts_spec relate_source_opts[] = {
+    RP_OPTS_LONG_ROW("ensemble", "SIZE", "members drawn from a climate", RP_RELATE_MIN_MEMBERS,
+                     ENSEMBLE_MAX, RP_OPTS_RANGED, RP_XSTR(RP_ENSEMBLE_SIZE_DEFAULT)),
+    RP_OPTS_ENUM_FN_ROW("climate", "NAME", "built-in climate", climate_resolve, rp_climate_names,
+                        RP_CLIMATE_DEFAULT),
+    RP_OPTS_STRING_ROW("climate-file", "F.yaml",
+                       "a climate of your own (examples: dsd-presets/climates/)"),
+    RP_OPTS_LONG_ROW("seed", "N", "seed of the draw (stored in the output)", 0, 2147483647.0,
+                     RP_OPTS_RANGED, "1"),
+    RP_OPTS_STRING_ROW("spectra", "FILE.csv",
+                       "measured spectra instead, one DSD per row (spectrum CSV format)"),
+    RP_OPTS_DOUBLE_ROW("max-diameter", "MM",
+                       "--spectra filter: largest upper bin edge with drops, at most the table's "
+                       "8 mm", 0.0, RP_TABLE_DMAX_DEFAULT_MM, RP_OPTS_RANGED | RP_OPTS_LO_OPEN,
+                       RP_XSTR(RP_RELATE_DMAX_DEFAULT_MM)),
+    RP_OPTS_DOUBLE_ROW("min-nt", "M3", "--spectra filter: minimum total concentration Nt, m^-3",
+                       0.0, 1e12, RP_OPTS_RANGED, RP_XSTR(RP_RELATE_NT_MIN_DEFAULT)),
+    RP_OPTS_DOUBLE_ROW("min-rain-rate", "MM_H", "--spectra filter: minimum rain rate", 0.0, 1e4,
+                       RP_OPTS_RANGED, RP_XSTR(RP_RELATE_RAIN_MIN_DEFAULT)),
+    RP_OPTS_END};
+
+static const rp_opts_spec relate_fit_opts[] = {
+    RP_OPTS_STRING_ROW("relations", "LIST",
+                       "e.g. \"R(KDP),R(Zh,ZDR),AH(KDP)\" (case-sensitive; default all)"),
+    RP_OPTS_DOUBLE_ROW("min-zh", "DBZ", "relations with Zh use samples with Zh >= DBZ", -50.0,
+                       80.0, RP_OPTS_RANGED, RP_XSTR(RP_RELATE_ZH_MIN_DBZ_DEFAULT)),
+    RP_OPTS_DOUBLE_ROW("min-kdp", "DEG_KM", "relations with KDP: KDP >= DEG_KM", 0.0, 100.0,
+                       RP_OPTS_RANGED, RP_XSTR(RP_RELATE_KDP_MIN_DEFAULT)),
+    RP_OPTS_DOUBLE_ROW("min-zdr", "DB", "relations with ZDR: ZDR >= DB", -10.0, 10.0,
+                       RP_OPTS_RANGED, RP_XSTR(RP_RELATE_ZDR_MIN_DB_DEFAULT)),
+    RP_OPTS_FLAG_ROW("nonlinear", "refine each fit by nonlinear least squares on the variable "
+                     "itself (fits the mean; default: log-space fit, the median)"),
+    RP_OPTS_DOUBLE_ROW("kw2", "X", "|K_w|^2 used to form Z", 0.0, 1.0,
+                       RP_OPTS_RANGED | RP_OPTS_LO_OPEN, "0.93"),
+    RP_OPTS_FLAG_ROW("json", "machine-readable output (JSON on stdout)"),
+    RP_OPTS_STRING_ROW("csv", "FILE", "every sample with its DSD moments and radar variables"),
+    RP_OPTS_STRING_ROW("plot", "FILE.png",
+                       "each relation over its samples, and fitted vs true (1:1); .svg and .pdf "
+                       "also work"),
+    RP_OPTS_END};
+
+static const rp_opts_command relate_cmd = {
+    .cmd = "relate",
+    .usage = "relate [--ensemble SIZE --climate NAME --seed N | --spectra FILE.csv]\n"
+             "                        [--band B | --frequency GHZ] [options]",
+    .about =
+        "Fit rain relations for one radar band (default C): R(Zh) (also as Zh = a R^b), Zh(R),\n"
+        "R(KDP), R(Zh,ZDR), R(KDP,ZDR), AH(KDP), ADP(KDP), AH(Zh), Dm(ZDR). Each DSD gives R, Zh,\n"
+        "ZDR, KDP, AH, ADP, Dm, D0, Nw, LWC; the power laws are fitted in log space on 3 of\n"
+        "every 4 samples (95 % intervals) and scored on the held-out 4th (bias, RMSE, FSE,\n"
+        "corr). Zh is linear (mm^6 m^-3), Zdr = 10^(ZDR/10) in the two-predictor relations,\n"
+        "ZDR in dB in Dm(ZDR), KDP in deg/km, AH and ADP in dB/km (one way), R in mm/h.",
+    .examples = "  rainprint relate --band X --ensemble 20000 --climate maritime --seed 7\n"
+                "  rainprint relate --band S --relations \"R(KDP),AH(KDP)\" --json",
+    .tables = {relate_source_opts, relate_fit_opts, rp_cli_band_opts, rp_cli_scatter_opts},
+    .titles = {"DSDs (one source) and --spectra quality filters", "Relations and outputs",
+               "Band", "Scattering"},
+    .notes = "Caution: " RP_RELATE_CAUTION,
 };
 
 #define ENSEMBLE_MAX 2000000L
@@ -87,163 +106,123 @@ typedef struct {
 } relate_args;
 
 typedef struct {
-  rp_table *table;
+  rp_table_store *store;
+  rp_radar_model *model;
+  rp_relate_result *res;
   rp_table_origin origin;
-  rp_gate_plan *plan;
-  rp_gate_fast *fast;
-  rp_ensemble_member *members;
   rp_spectrum_set *set;
   rp_dsd *rows;
-  rp_relate_sample *samples;
+  const rp_relate_sample *samples; /* borrowed from res */
   size_t n, n_direct;
   rp_relate_quality_report rep;
   rp_climate climate;
-  rp_relate_fit fits[RP_REL_COUNT];
+  const rp_relate_fit *fits;       /* borrowed from res */
   size_t n_fits;
 } relate_state;
 
-static int parse_nonneg(const char *opt, const char *arg, double *out) {
-  if (rp_cli_parse_double("relate", opt, arg, out)) return -RP_EXIT_USAGE;
-  if (*out < 0.0) {
-    rp_cli_fail("relate", RP_EINVAL, "--%s %g must be >= 0", opt, *out);
-    return -RP_EXIT_USAGE;
+/* Options into a. 0 or an exit code. */
+static int read_args(const rp_opts *o, relate_args *a) {
+  int rc;
+  if (rp_opts_given(o, "spectra") &&
+      (rc = rp_opts_exclusive(o, "spectra", "ensemble", (const char *)NULL)) != 0)
+    return rc;
+  const char *const ens_only[] = {"climate", "climate-file", "seed"};
+  for (size_t i = 0; i < 3; i++)
+    if (rp_opts_given(o, "spectra") && rp_opts_given(o, ens_only[i]))
+      return rp_cli_fail("relate", RP_EINVAL, "--%s is for an ensemble; --spectra gives the DSDs",
+                         ens_only[i]);
+  const char *const spectra_only[] = {"max-diameter", "min-nt", "min-rain-rate"};
+  for (size_t i = 0; i < 3; i++)
+    if ((rc = rp_opts_requires(o, spectra_only[i], "spectra"))) return rc;
+  if ((rc = rp_opts_exclusive(o, "climate", "climate-file", (const char *)NULL))) return rc;
+  a->ensemble = rp_opts_long(o, "ensemble", RP_ENSEMBLE_SIZE_DEFAULT);
+  a->have_ensemble = rp_opts_given(o, "ensemble");
+  a->seed = rp_opts_long(o, "seed", 1);
+  a->have_seed = rp_opts_given(o, "seed");
+  if (rp_opts_given(o, "climate")) {
+    size_t n = 0;
+    a->climate = rp_climate_names(&n)[rp_opts_enum(o, "climate", 0)];
   }
-  return 1;
-}
-
-/* 1 handled, 0 not ours, < 0 exit code (negated). */
-static int relate_option(relate_args *a, int code, const char *arg) {
-  switch (code) {
-    case OPT_ENSEMBLE:
-      if (rp_cli_parse_long("relate", "ensemble", arg, &a->ensemble)) return -RP_EXIT_USAGE;
-      if (a->ensemble < 1 || a->ensemble > ENSEMBLE_MAX) {
-        rp_cli_fail("relate", RP_EINVAL, "--ensemble %ld outside [1, %ld]", a->ensemble,
-                    ENSEMBLE_MAX);
-        return -RP_EXIT_USAGE;
-      }
-      a->have_ensemble = 1;
-      return 1;
-    case OPT_SEED:
-      if (rp_cli_parse_long("relate", "seed", arg, &a->seed)) return -RP_EXIT_USAGE;
-      if (a->seed < 0) {
-        rp_cli_fail("relate", RP_EINVAL, "--seed %ld must be >= 0", a->seed);
-        return -RP_EXIT_USAGE;
-      }
-      a->have_seed = 1;
-      return 1;
-    case OPT_CLIMATE: a->climate = arg; return 1;
-    case OPT_CLIMATE_FILE: a->climate_file = arg; return 1;
-    case OPT_SPECTRA: a->spectra = arg; return 1;
-    case OPT_RELATIONS: a->relations = arg; return 1;
-    case OPT_CSV: a->csv = arg; return 1;
-    case OPT_PLOT: a->plot = arg; return 1;
-    case OPT_NONLINEAR: a->opt.nonlinear = 1; return 1;
-    case OPT_MIN_ZH:
-      return rp_cli_parse_double("relate", "min-zh", arg, &a->opt.zh_min_dbz) ? -RP_EXIT_USAGE : 1;
-    case OPT_MIN_KDP:
-      return parse_nonneg("min-kdp", arg, &a->opt.kdp_min_deg_km);
-    case OPT_MIN_ZDR:
-      return rp_cli_parse_double("relate", "min-zdr", arg, &a->opt.zdr_min_db) ? -RP_EXIT_USAGE : 1;
-    case OPT_MIN_NT: a->have_quality = 1; return parse_nonneg("min-nt", arg, &a->q.min_nt_m3);
-    case OPT_MIN_RAIN:
-      a->have_quality = 1;
-      return parse_nonneg("min-rain-rate", arg, &a->q.min_rain_rate_mm_h);
-    case OPT_MAX_D:
-      a->have_quality = 1;
-      if (rp_cli_parse_double("relate", "max-diameter", arg, &a->q.max_diameter_mm))
-        return -RP_EXIT_USAGE;
-      if (!(a->q.max_diameter_mm > 0.0)) {
-        rp_cli_fail("relate", RP_EINVAL, "--max-diameter %g must be > 0", a->q.max_diameter_mm);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    case OPT_KW2:
-      if (rp_cli_parse_double("relate", "kw2", arg, &a->kw2)) return -RP_EXIT_USAGE;
-      if (!(a->kw2 > 0.0 && a->kw2 <= 1.0)) {
-        rp_cli_fail("relate", RP_EDOM, "--kw2 %g outside (0, 1]", a->kw2);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    default: return 0;
-  }
-}
-
-static int check_sources(const relate_args *a) {
-  if (a->spectra != NULL) {
-    if (a->have_ensemble || a->climate || a->climate_file || a->have_seed)
-      return rp_cli_fail("relate", RP_EINVAL,
-                         "--spectra cannot be combined with --ensemble, --climate, "
-                         "--climate-file or --seed");
-  } else if (a->have_quality) {
-    return rp_cli_fail("relate", RP_EINVAL,
-                       "--min-nt, --min-rain-rate and --max-diameter filter --spectra rows; "
-                       "give --spectra FILE.csv");
-  }
-  if (a->climate && a->climate_file)
-    return rp_cli_fail("relate", RP_EINVAL, "give either --climate or --climate-file, not both");
+  a->climate_file = rp_opts_string(o, "climate-file", NULL);
+  a->spectra = rp_opts_string(o, "spectra", NULL);
+  a->relations = rp_opts_string(o, "relations", NULL);
+  a->csv = rp_opts_string(o, "csv", NULL);
+  a->plot = rp_opts_string(o, "plot", NULL);
+  a->opt.nonlinear = rp_opts_given(o, "nonlinear");
+  a->opt.zh_min_dbz = rp_opts_double(o, "min-zh", a->opt.zh_min_dbz);
+  a->opt.kdp_min_deg_km = rp_opts_double(o, "min-kdp", a->opt.kdp_min_deg_km);
+  a->opt.zdr_min_db = rp_opts_double(o, "min-zdr", a->opt.zdr_min_db);
+  a->q.max_diameter_mm = rp_opts_double(o, "max-diameter", a->q.max_diameter_mm);
+  a->q.min_nt_m3 = rp_opts_double(o, "min-nt", a->q.min_nt_m3);
+  a->q.min_rain_rate_mm_h = rp_opts_double(o, "min-rain-rate", a->q.min_rain_rate_mm_h);
+  a->kw2 = rp_opts_double(o, "kw2", RP_KW2_DEFAULT);
   return 0;
 }
 
 static void state_free(relate_state *st) {
-  rp_gate_fast_free(st->fast);
-  rp_gate_plan_free(st->plan);
-  rp_table_free(st->table);
+  rp_relate_result_free(st->res);
+  rp_radar_model_free(st->model);
+  rp_table_store_free(st->store);
   rp_spectrum_free(st->set);
   free(st->rows);
-  free(st->members);
-  free(st->samples);
 }
 
 /* ---- computing (library calls) ------------------------------------------------------ */
 
 static int compute(const relate_args *a, relate_state *st) {
   rp_error err = {0};
-  if (rp_table_obtain(&a->s.cfg, rp_cli_tables_dir(), rp_cli_cache_dir(), &st->table, &st->origin,
-                      &err) != RP_OK)
-    return rp_cli_fail_err("relate", &err);
-  if (rp_gate_plan_alloc(st->table, RP_DSD_DMIN_DEFAULT_MM, RP_DSD_DMAX_DEFAULT_MM, a->kw2,
-                         &st->plan, &err) != RP_OK)
-    return rp_cli_fail_err("relate", &err);
-  rp_status s;
+  rp_radar_config rc;
+  rp_radar_config_default(&rc);
+  rc.scatter = a->s.cfg;
+  rc.n_bands = 1;
+  rc.freq_ghz[0] = a->s.cfg.freq_ghz;
+  rc.kw2 = a->kw2;
+  st->store = rp_table_store_alloc(rp_cli_tables_dir(), rp_cli_cache_dir());
+  if (st->store == NULL) return rp_cli_fail("relate", RP_ENOMEM, "out of memory (table store)");
+  rc.source = rp_table_store_source(st->store);
+  if (rp_radar_model_alloc(&rc, &st->model, &err) != RP_OK) return rp_cli_fail_err("relate", &err);
+  rp_relate_request req;
+  rp_relate_request_default(&req);
+  req.options = a->opt;
   if (a->spectra != NULL) {
     if (rp_spectrum_load(a->spectra, &st->set, &err) != RP_OK) return rp_cli_fail_err("relate", &err);
-    st->samples = calloc(st->set->n_rows ? st->set->n_rows : 1, sizeof *st->samples);
     st->rows = calloc(st->set->n_rows ? st->set->n_rows : 1, sizeof *st->rows);
-    if (st->samples == NULL || st->rows == NULL)
-      return rp_cli_fail("relate", RP_ENOMEM, "out of memory");
-    s = rp_spectrum_rows_dsd(st->set, st->rows, &err);
-    if (s == RP_OK)
-      s = rp_relate_spectra_eval(st->plan, st->rows, st->set->n_rows, &a->q, st->samples,
-                                 &st->rep, &err);
-    if (s != RP_OK) {
+    if (st->rows == NULL) return rp_cli_fail("relate", RP_ENOMEM, "out of memory");
+    if (rp_spectrum_rows_dsd(st->set, st->rows, &err) != RP_OK) {
       rp_error_prefix(&err, "%s: ", a->spectra);
       return rp_cli_fail_err("relate", &err);
     }
-    st->n = st->rep.n_kept;
+    req.source = RP_RELATE_FROM_SPECTRA;
+    req.rows = st->rows;
+    req.n_rows = st->set->n_rows;
+    req.quality = a->q;
   } else {
+    rp_status s;
     if (a->climate_file != NULL)
       s = rp_climate_load_yaml(a->climate_file, &st->climate, &err);
     else
       s = rp_climate_from_name(a->climate ? a->climate : RP_CLIMATE_DEFAULT, &st->climate, &err);
     if (s != RP_OK) return rp_cli_fail_err("relate", &err);
-    st->n = (size_t)a->ensemble;
-    st->members = calloc(st->n, sizeof *st->members);
-    st->samples = calloc(st->n, sizeof *st->samples);
-    if (st->members == NULL || st->samples == NULL)
-      return rp_cli_fail("relate", RP_ENOMEM, "out of memory for %zu members", st->n);
-    if (rp_ensemble_draw(&st->climate, st->n, (unsigned long)a->seed, st->members, &err) != RP_OK)
-      return rp_cli_fail_err("relate", &err);
-    if (rp_gate_fast_alloc(st->plan, &st->fast, &err) != RP_OK) return rp_cli_fail_err("relate", &err);
-    if (rp_relate_ensemble_eval(st->plan, st->fast, st->members, st->n, st->samples, &st->n_direct,
-                                &err) != RP_OK)
-      return rp_cli_fail_err("relate", &err);
+    req.source = RP_RELATE_FROM_ENSEMBLE;
+    req.climate = &st->climate;
+    req.n_members = (size_t)a->ensemble;
+    req.seed = (unsigned long)a->seed;
   }
-  if (rp_relate_fit_eval(st->samples, st->n, &a->opt, st->fits, &st->n_fits, &err) != RP_OK) {
-    if (strstr(err.msg, "too few samples") != NULL)
-      return rp_cli_fail("relate", err.status, "%s (lower --min-zh, --min-kdp or --min-zdr, or "
-                         "give more samples)", err.msg);
+  const rp_status s = rp_relate_run(st->model, 0, &req, &st->res, &err);
+  if (s == RP_ESAMPLES)
+    return rp_cli_fail("relate", s, "%s (lower --min-zh, --min-kdp or --min-zdr, or give more "
+                       "samples)", err.msg);
+  if (s != RP_OK) {
+    if (a->spectra != NULL) rp_error_prefix(&err, "%s: ", a->spectra);
     return rp_cli_fail_err("relate", &err);
   }
+  st->samples = st->res->samples;
+  st->n = st->res->n_samples;
+  st->n_direct = st->res->n_direct;
+  st->rep = st->res->report;
+  st->fits = st->res->fits;
+  st->n_fits = st->res->n_fits;
+  st->origin = st->res->origin;
   return 0;
 }
 
@@ -543,55 +522,16 @@ static json_t *build_json(const relate_args *a, const relate_state *st) {
 /* ---- entry -------------------------------------------------------------------------- */
 
 int rp_cmd_relate(int argc, char **argv) {
-  static const struct option longopts[] = {
-      RP_CLI_SCATTER_LONGOPTS,
-      {"ensemble", required_argument, NULL, OPT_ENSEMBLE},
-      {"climate", required_argument, NULL, OPT_CLIMATE},
-      {"climate-file", required_argument, NULL, OPT_CLIMATE_FILE},
-      {"seed", required_argument, NULL, OPT_SEED},
-      {"spectra", required_argument, NULL, OPT_SPECTRA},
-      {"relations", required_argument, NULL, OPT_RELATIONS},
-      {"csv", required_argument, NULL, OPT_CSV},
-      {"plot", required_argument, NULL, OPT_PLOT},
-      {"nonlinear", no_argument, NULL, OPT_NONLINEAR},
-      {"min-zh", required_argument, NULL, OPT_MIN_ZH},
-      {"min-kdp", required_argument, NULL, OPT_MIN_KDP},
-      {"min-zdr", required_argument, NULL, OPT_MIN_ZDR},
-      {"min-nt", required_argument, NULL, OPT_MIN_NT},
-      {"min-rain-rate", required_argument, NULL, OPT_MIN_RAIN},
-      {"max-diameter", required_argument, NULL, OPT_MAX_D},
-      {"kw2", required_argument, NULL, OPT_KW2},
-      {0, 0, 0, 0}};
+  rp_opts o;
+  int rc = rp_opts_parse(&relate_cmd, argc, argv, &o);
+  if (rc != RP_OPTS_GO_ON) return rc;
   relate_args a;
   memset(&a, 0, sizeof a);
-  rp_cli_scatter_init(&a.s);
-  a.ensemble = RP_ENSEMBLE_SIZE_DEFAULT;
-  a.seed = 1;
-  a.kw2 = RP_KW2_DEFAULT;
   rp_relate_options_default(&a.opt);
   rp_relate_quality_default(&a.q);
-  int code;
-  optind = 1;
-  opterr = 0;
-  while ((code = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
-    if (code == '?' || code == ':')
-      return rp_cli_fail("relate", RP_EINVAL, "unknown or incomplete option '%s' (see --help)",
-                         argv[optind - 1]);
-    int h = relate_option(&a, code, optarg);
-    if (h == 0) h = rp_cli_scatter_option("relate", &a.s, code, optarg);
-    if (h < 0) return -h;
-  }
-  if (a.s.help) {
-    printf(relate_help, RP_ENSEMBLE_SIZE_DEFAULT, RP_RELATE_MIN_MEMBERS, RP_RELATE_DMAX_DEFAULT_MM,
-           RP_RELATE_NT_MIN_DEFAULT, RP_RELATE_RAIN_MIN_DEFAULT, RP_RELATE_ZH_MIN_DBZ_DEFAULT,
-           RP_RELATE_KDP_MIN_DEFAULT, RP_RELATE_ZDR_MIN_DB_DEFAULT);
-    return RP_EXIT_OK;
-  }
-  if (optind < argc) return rp_cli_fail("relate", RP_EINVAL, "unexpected argument '%s'", argv[optind]);
-  int rc = check_sources(&a);
-  if (rc) return rc;
-  rc = rp_cli_scatter_finish("relate", &a.s);
-  if (rc) return rc;
+  if ((rc = read_args(&o, &a))) return rc;
+  if ((rc = rp_cli_scatter_from_opts(&o, &a.s))) return rc;
+  a.s.json = rp_opts_given(&o, "json");
   if (a.s.cfg.method == RP_METHOD_MIE)
     return rp_cli_fail("relate", RP_EINVAL, "--method mie is for single drops; use tmatrix or rayleigh");
   if (a.relations != NULL) {
@@ -599,35 +539,20 @@ int rp_cmd_relate(int argc, char **argv) {
     if (rp_relate_parse_list(a.relations, &a.opt.relations, &err) != RP_OK)
       return rp_cli_fail("relate", err.status, "--relations: %s", err.msg);
   }
-  if (a.plot != NULL && rp_cli_check_plot_path("relate", a.plot)) return RP_EXIT_USAGE;
-  if (a.csv != NULL && a.csv[0] == '\0')
-    return rp_cli_fail("relate", RP_EINVAL, "--csv: empty file name");
+  if ((rc = rp_cli_check_outputs("relate", a.csv, a.plot))) return rc;
 
-  /* The CSV and the picture are written whole or not at all, together: the CSV goes to
-   * a temporary file made before any work (a missing folder is reported at once) and is
-   * renamed into place only after the picture has been written. */
-  char csv_tmp[4096] = "";
-  if (a.csv != NULL) {
-    const int fd = rp_cli_temp_create("relate", "csv", a.csv, csv_tmp, sizeof csv_tmp);
-    if (fd < 0) return RP_EXIT_USAGE;
-    close(fd);
-  }
+  /* The picture is written first, then the CSV (the data last: see output_set.h), each
+   * whole or not at all; when the picture fails, no CSV is written. */
   relate_state st;
   memset(&st, 0, sizeof st);
   rc = compute(&a, &st);
+  if (rc == 0 && a.plot != NULL) rc = write_plot(&a, &st);
   if (rc == 0 && a.csv != NULL) {
     rp_error err = {0};
-    if (rp_relate_samples_save_csv(csv_tmp, st.samples, st.n,
+    if (rp_relate_samples_save_csv(a.csv, st.samples, st.n,
                                    st.set ? (const char *const *)st.set->labels : NULL,
                                    &err) != RP_OK)
       rc = rp_cli_fail_err("relate", &err);
-  }
-  if (rc == 0 && a.plot != NULL) rc = write_plot(&a, &st);
-  if (a.csv != NULL) {
-    if (rc == 0)
-      rc = rp_cli_temp_commit("relate", "csv", csv_tmp, a.csv);
-    else
-      unlink(csv_tmp);
   }
   if (rc == 0) {
     if (a.s.json)

@@ -5,66 +5,47 @@
 #include "cli/cli.h"
 #include "rainprint/table_file.h"
 
-static const char table_help[] =
-    "Usage: rainprint table --out FILE.nc [options]\n"
-    "\n"
-    "Build a scattering table: per diameter, the canting-averaged quantities a DSD\n"
-    "integral needs, written as netCDF-4 (CF conventions).\n"
-    "\n"
-    "  --out FILE.nc          output file (written whole or not at all; required)\n"
-    "  --dmin MM              smallest diameter (default 0.1)\n"
-    "  --dmax MM              largest diameter (default 8.0)\n"
-    "  --dstep MM             diameter step (default 0.1)\n"
-    "%s"
-    "\n"
-    "Example:\n"
-    "  rainprint table --band X --temperature 20 --out x_20c.nc\n";
+/* Ranges as rp_table_build's grid check (scatter/table.c): 0 < dmin < dmax <= 10 mm, a step
+ * of at least 0.001 mm and at most dmax - dmin (checked after parsing). */
+static const rp_opts_spec table_opts[] = {
+    RP_OPTS_STRING_ROW("out", "FILE.nc", "output file (written whole or not at all; required)"),
+    RP_OPTS_DOUBLE_ROW("dmin", "MM", "smallest diameter", 0.0, 10.0,
+                       RP_OPTS_RANGED | RP_OPTS_LO_OPEN | RP_OPTS_HI_OPEN, "0.1"),
+    RP_OPTS_DOUBLE_ROW("dmax", "MM", "largest diameter", 0.0, 10.0,
+                       RP_OPTS_RANGED | RP_OPTS_LO_OPEN, "8"),
+    RP_OPTS_DOUBLE_ROW("dstep", "MM", "diameter step, at most dmax - dmin", 0.001, 10.0,
+                       RP_OPTS_RANGED, "0.1"),
+    RP_OPTS_FLAG_ROW("json", "machine-readable output (JSON on stdout)"),
+    RP_OPTS_END};
 
-enum { OPT_OUT = RP_OPT_FIRST_FREE, OPT_DMIN, OPT_DMAX, OPT_DSTEP };
+static const rp_opts_command table_cmd = {
+    .cmd = "table",
+    .usage = "table --out FILE.nc [options]",
+    .about = "Build a scattering table: per diameter, the canting-averaged quantities a DSD\n"
+             "integral needs, written as netCDF-4 (CF conventions). Give it to gate --table.",
+    .examples = "  rainprint table --band X --temperature 20 --out x_20c.nc",
+    .tables = {table_opts, rp_cli_band_opts, rp_cli_scatter_opts},
+    .titles = {"Table", "Band", "Scattering"},
+};
 
 int rp_cmd_table(int argc, char **argv) {
-  static const struct option longopts[] = {RP_CLI_SCATTER_LONGOPTS,
-                                           {"out", required_argument, NULL, OPT_OUT},
-                                           {"dmin", required_argument, NULL, OPT_DMIN},
-                                           {"dmax", required_argument, NULL, OPT_DMAX},
-                                           {"dstep", required_argument, NULL, OPT_DSTEP},
-                                           {0, 0, 0, 0}};
+  rp_opts o;
+  int rc = rp_opts_parse(&table_cmd, argc, argv, &o);
+  if (rc != RP_OPTS_GO_ON) return rc;
+  if ((rc = rp_opts_required(&o, "out"))) return rc;
+  const char *out = rp_opts_string(&o, "out", NULL);
+  const double dmin = rp_opts_double(&o, "dmin", RP_TABLE_DMIN_DEFAULT_MM);
+  const double dmax = rp_opts_double(&o, "dmax", RP_TABLE_DMAX_DEFAULT_MM);
+  const double dstep = rp_opts_double(&o, "dstep", RP_TABLE_DSTEP_DEFAULT_MM);
+  if (!(dmin < dmax))
+    return rp_cli_fail("table", RP_EINVAL, "--dmin %g must be less than --dmax %g", dmin, dmax);
+  if (dstep > dmax - dmin)
+    return rp_cli_fail("table", RP_EINVAL, "--dstep %g is more than --dmax - --dmin = %g", dstep,
+                       dmax - dmin);
   rp_cli_scatter s;
-  rp_cli_scatter_init(&s);
-  const char *out = NULL;
-  double dmin = RP_TABLE_DMIN_DEFAULT_MM, dmax = RP_TABLE_DMAX_DEFAULT_MM;
-  double dstep = RP_TABLE_DSTEP_DEFAULT_MM;
-  int code;
-  optind = 1;
-  opterr = 0;
-  while ((code = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
-    int bad = 0;
-    switch (code) {
-      case OPT_OUT: out = optarg; break;
-      case OPT_DMIN: bad = rp_cli_parse_double("table", "dmin", optarg, &dmin); break;
-      case OPT_DMAX: bad = rp_cli_parse_double("table", "dmax", optarg, &dmax); break;
-      case OPT_DSTEP: bad = rp_cli_parse_double("table", "dstep", optarg, &dstep); break;
-      case '?':
-      case ':':
-        return rp_cli_fail("table", RP_EINVAL, "unknown or incomplete option '%s' (see --help)",
-                           argv[optind - 1]);
-      default: {
-        const int h = rp_cli_scatter_option("table", &s, code, optarg);
-        if (h < 0) return -h;
-      }
-    }
-    if (bad) return RP_EXIT_USAGE;
-  }
-  if (s.help) {
-    printf(table_help, rp_cli_scatter_help);
-    return RP_EXIT_OK;
-  }
-  if (optind < argc)
-    return rp_cli_fail("table", RP_EINVAL, "unexpected argument '%s'", argv[optind]);
-  if (out == NULL || out[0] == '\0')
-    return rp_cli_fail("table", RP_EINVAL, "--out FILE.nc is required (see --help)");
-  const int fin = rp_cli_scatter_finish("table", &s);
-  if (fin) return fin;
+  if ((rc = rp_cli_scatter_from_opts(&o, &s))) return rc;
+  s.json = rp_opts_given(&o, "json");
+  if ((rc = rp_cli_check_output("table", "out", out))) return rc;
 
   rp_table *t = NULL;
   rp_error err = {0};

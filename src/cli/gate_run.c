@@ -1,6 +1,7 @@
-/* gate_run.c — one DSD through the gate integrator at several bands (tool layer).
- * Tables and plans are kept for the life of the process, keyed by scattering config,
- * truncation and |K_w|^2, so a curve of many steps builds each table once. */
+/* gate_run.c — one DSD at several bands through the radar model (tool layer): the model
+ * (radar_model.h) obtains tables from the store (shipped, cached, computed and cached) and
+ * keeps tables and plans for the session; a table the user gives (--table) gets a plan for
+ * the call. Printing and JSON come from the table of fields (field.h). */
 #include "cli/gate_run.h"
 
 #include <math.h>
@@ -8,58 +9,82 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "rainprint/field.h"
 #include "rainprint/shape.h"
-#include "rainprint/table_file.h"
 
-#define MAX_KEPT 64
-
-typedef struct {
-  rp_drop_config cfg;
-  double dmin, dmax, kw2;
-  rp_table *table;
-  rp_gate_plan *plan;
-  rp_table_origin origin;
-} kept_plan;
-
-static kept_plan kept[MAX_KEPT]; /* tool layer: one thread */
-static int n_kept;
-
-void rp_gate_run_cleanup(void) {
-  for (int i = 0; i < n_kept; i++) {
-    rp_gate_plan_free(kept[i].plan);
-    rp_table_free(kept[i].table);
-  }
-  n_kept = 0;
+void rp_gate_session_close(rp_gate_session *s) {
+  rp_radar_model_free(s->model);
+  rp_table_store_free(s->store);
+  s->model = NULL;
+  s->store = NULL;
 }
 
-static int same_cfg(const rp_drop_config *a, const rp_drop_config *b) {
-  return a->freq_ghz == b->freq_ghz && a->temp_c == b->temp_c && a->shape == b->shape &&
-         a->axis_ratio_fixed == b->axis_ratio_fixed && a->canting_sd_deg == b->canting_sd_deg &&
-         a->canting_model == b->canting_model && a->canting_approx == b->canting_approx &&
-         a->elevation_deg == b->elevation_deg && a->method == b->method;
+/* Same scattering configuration apart from temperature and elevation (which the model
+ * takes per call). */
+static int same_model(const rp_radar_config *a, const rp_radar_config *b) {
+  const rp_drop_config *x = &a->scatter, *y = &b->scatter;
+  if (a->n_bands != b->n_bands || a->kw2 != b->kw2) return 0;
+  for (int i = 0; i < a->n_bands; i++)
+    if (a->freq_ghz[i] != b->freq_ghz[i]) return 0;
+  return x->shape == y->shape && x->axis_ratio_fixed == y->axis_ratio_fixed &&
+         x->canting_sd_deg == y->canting_sd_deg && x->canting_model == y->canting_model &&
+         x->canting_approx == y->canting_approx && x->method == y->method;
 }
 
-static const kept_plan *get_plan(const rp_drop_config *cfg, double dmin, double dmax, double kw2,
-                                 rp_error *err) {
-  for (int i = 0; i < n_kept; i++) {
-    if (same_cfg(&kept[i].cfg, cfg) && kept[i].dmin == dmin && kept[i].dmax == dmax &&
-        kept[i].kw2 == kw2)
-      return &kept[i];
+static int session_model(const char *cmd, rp_gate_session *s, const rp_gate_request *req) {
+  rp_radar_config c;
+  rp_radar_config_default(&c);
+  c.scatter = req->cfg;
+  c.n_bands = req->n_bands;
+  for (int b = 0; b < req->n_bands; b++) c.freq_ghz[b] = req->freq_ghz[b];
+  c.scatter.freq_ghz = req->freq_ghz[0];
+  c.kw2 = req->kw2;
+  if (s->model != NULL && same_model(&s->config, &c)) return 0;
+  if (s->store == NULL) {
+    s->store = rp_table_store_alloc(rp_cli_tables_dir(), rp_cli_cache_dir());
+    if (s->store == NULL) return rp_cli_fail(cmd, RP_ENOMEM, "out of memory (table store)");
   }
-  if (n_kept == MAX_KEPT) rp_gate_run_cleanup();
-  kept_plan k = {.cfg = *cfg, .dmin = dmin, .dmax = dmax, .kw2 = kw2};
-  if (rp_table_obtain(cfg, rp_cli_tables_dir(), rp_cli_cache_dir(), &k.table, &k.origin, err) != RP_OK)
-    return NULL;
-  if (rp_gate_plan_alloc(k.table, dmin, dmax, kw2, &k.plan, err) != RP_OK) {
-    rp_table_free(k.table);
-    return NULL;
-  }
-  kept[n_kept] = k;
-  return &kept[n_kept++];
+  c.source = rp_table_store_source(s->store);
+  rp_radar_model_free(s->model);
+  s->model = NULL;
+  rp_error err = {0};
+  if (rp_radar_model_alloc(&c, &s->model, &err) != RP_OK) return rp_cli_fail_err(cmd, &err);
+  s->config = c;
+  return 0;
 }
 
-int rp_gate_run(const char *cmd, const rp_gate_request *req, const rp_dsd *dsd,
-                rp_gate_run_result *out) {
+double rp_gate_water_outside(const rp_dsd *d, double dmin_mm, double dmax_mm) {
+  rp_dsd inside = *d;
+  double all = 0.0, in = 0.0;
+  const double lo = fmax(d->dmin_mm, dmin_mm), hi = fmin(d->dmax_mm, dmax_mm);
+  if (!(lo < hi)) return 1.0;
+  inside.dmin_mm = lo;
+  inside.dmax_mm = hi;
+  if (rp_dsd_moment(d, 3.0, &all, NULL) != RP_OK || rp_dsd_moment(&inside, 3.0, &in, NULL) != RP_OK ||
+      !(all > 0.0))
+    return 0.0;
+  const double lost = 1.0 - in / all;
+  return lost > 0.0 ? lost : 0.0;
+}
+
+/* Drops the table does not cover are never left out silently: an analytic DSD beyond the
+ * table is refused by the plan (RP_EDOM, naming both ranges); a spectrum keeps its bins,
+ * so the water outside the table is reported. Below 1e-6 of the water is noise of the
+ * bin edges (RP_DSD_BIN_SLACK_MM) and not worth a line. */
+static void warn_water(const char *cmd, const rp_dsd *dsd, double tmin, double tmax,
+                       double *lost) {
+  *lost = 0.0;
+  if (dsd->model != RP_DSD_SPECTRUM) return;
+  *lost = rp_gate_water_outside(dsd, tmin, tmax);
+  if (*lost > 1e-6)
+    fprintf(stderr,
+            "rainprint %s: warning: %.3g %% of the spectrum's water lies in drops outside the "
+            "table's %g..%g mm and is left out\n",
+            cmd, 100.0 * *lost, tmin, tmax);
+}
+
+int rp_gate_run(const char *cmd, rp_gate_session *s, const rp_gate_request *req,
+                const rp_dsd *dsd, rp_gate_run_result *out) {
   rp_error err = {0};
   memset(out, 0, sizeof *out);
   double factor = 1.0; /* fall speeds as the formula gives them (1013 hPa, 20 C air) */
@@ -68,44 +93,34 @@ int rp_gate_run(const char *cmd, const rp_gate_request *req, const rp_dsd *dsd,
     return rp_cli_fail_err(cmd, &err);
   if (rp_dsd_moments_eval(dsd, RP_FALL_DEFAULT, factor, &out->moments, &err) != RP_OK)
     return rp_cli_fail_err(cmd, &err);
-  /* Spectra are integrated over the whole table (the user's own, or the default grid of
-   * shipped, cached and computed ones); analytic DSDs over their truncation. */
-  const int spectrum = dsd->model == RP_DSD_SPECTRUM;
   const rp_table *given = req->table;
+  if (given != NULL) { /* the user's table: a plan for this call only, over its range for spectra */
+    const int spectrum = dsd->model == RP_DSD_SPECTRUM;
+    const double tmin = given->d_mm[0], tmax = given->d_mm[given->n - 1];
+    rp_gate_plan *plan = NULL;
+    if (rp_gate_plan_alloc(given, spectrum ? tmin : dsd->dmin_mm, spectrum ? tmax : dsd->dmax_mm,
+                           req->kw2, &plan, &err) != RP_OK)
+      return rp_cli_fail_err(cmd, &err);
+    const rp_status st = rp_gate_eval(plan, dsd, &out->r[0], &err);
+    rp_gate_plan_free(plan);
+    if (st != RP_OK) return rp_cli_fail_err(cmd, &err);
+    out->origin[0] = RP_TABLE_GIVEN;
+    warn_water(cmd, dsd, tmin, tmax, &out->water_lost[0]);
+    return 0;
+  }
+  int rc = session_model(cmd, s, req);
+  if (rc) return rc;
   for (int b = 0; b < req->n_bands; b++) {
-    rp_drop_config cfg = req->cfg;
-    cfg.freq_ghz = req->freq_ghz[b];
-    double dmin = dsd->dmin_mm, dmax = dsd->dmax_mm;
-    if (spectrum) {
-      dmin = given != NULL ? given->d_mm[0] : RP_TABLE_DMIN_DEFAULT_MM;
-      dmax = given != NULL ? given->d_mm[given->n - 1] : RP_TABLE_DMAX_DEFAULT_MM;
-    }
-    if (given != NULL) { /* the user's table: a plan for this call only */
-      rp_gate_plan *plan = NULL;
-      if (rp_gate_plan_alloc(given, dmin, dmax, req->kw2, &plan, &err) != RP_OK)
-        return rp_cli_fail_err(cmd, &err);
-      const rp_status st = rp_gate_eval(plan, dsd, &out->r[b], &err);
-      rp_gate_plan_free(plan);
-      if (st != RP_OK) return rp_cli_fail_err(cmd, &err);
-      out->origin[b] = RP_TABLE_GIVEN;
-      continue;
-    }
-    const kept_plan *k = get_plan(&cfg, dmin, dmax, req->kw2, &err);
-    if (k == NULL) return rp_cli_fail_err(cmd, &err);
-    if (rp_gate_eval(k->plan, dsd, &out->r[b], &err) != RP_OK) return rp_cli_fail_err(cmd, &err);
-    out->origin[b] = k->origin;
+    if (rp_radar_model_gate(s->model, b, req->cfg.temp_c, req->cfg.elevation_deg, dsd, &out->r[b],
+                            &out->origin[b], &err) != RP_OK)
+      return rp_cli_fail_err(cmd, &err);
+    rp_radar_entry e;
+    if (dsd->model == RP_DSD_SPECTRUM &&
+        rp_radar_model_entry(s->model, b, req->cfg.temp_c, req->cfg.elevation_deg, &e, &err) ==
+            RP_OK)
+      warn_water(cmd, dsd, e.table->d_mm[0], e.table->d_mm[e.table->n - 1], &out->water_lost[b]);
   }
   return 0;
-}
-
-static void print_row(const char *label, const rp_gate_request *req, const rp_gate_run_result *res,
-                      size_t offset, const char *fmt) {
-  printf("  %-18s", label);
-  for (int b = 0; b < req->n_bands; b++) {
-    const double x = *(const double *)(const void *)((const char *)&res->r[b] + offset);
-    printf(fmt, x);
-  }
-  printf("\n");
 }
 
 static const char *band_label(const rp_gate_request *req, int b, char *buf, size_t n) {
@@ -146,18 +161,21 @@ void rp_gate_run_print(const rp_gate_request *req, const rp_cli_dsd_built *dsd,
   printf("  %-18s", "");
   for (int b = 0; b < req->n_bands; b++) printf("%12s", band_label(req, b, buf, sizeof buf));
   printf("\n");
-#define ROW(label, field, fmt) print_row(label, req, res, offsetof(rp_gate_result, field), fmt)
-  ROW("Zh (dBZ)", zh_dbz, "%12.2f");
-  ROW("Zv (dBZ)", zv_dbz, "%12.2f");
-  ROW("ZDR (dB)", zdr_db, "%12.3f");
-  ROW("KDP (deg/km)", kdp_deg_km, "%12.4f");
-  ROW("rhoHV", rhohv, "%12.5f");
-  ROW("delta_hv (deg)", delta_hv_deg, "%12.3f");
-  ROW("LDR (dB)", ldr_db, "%12.2f");
-  ROW("AH (dB/km)", ah_db_km, "%12.5f");
-  ROW("AV (dB/km)", av_db_km, "%12.5f");
-  ROW("ADP (dB/km)", adp_db_km, "%12.5f");
-#undef ROW
+  for (int id = RP_FIELD_FIRST_RADAR; id <= RP_FIELD_LAST_RADAR; id++) {
+    const rp_field_desc *f = rp_field_get((rp_field_id)id);
+    char label[48];
+    if (f->units_text[0])
+      snprintf(label, sizeof label, "%s (%s)", f->label, f->units_text);
+    else
+      snprintf(label, sizeof label, "%s", f->label);
+    printf("  %-18s", label);
+    for (int b = 0; b < req->n_bands; b++) {
+      char cell[32];
+      snprintf(cell, sizeof cell, f->format, rp_field_value((rp_field_id)id, &res->r[b], NULL));
+      printf("%12s", cell);
+    }
+    printf("\n");
+  }
   printf("  %-18s", "table");
   for (int b = 0; b < req->n_bands; b++) printf("%12s", rp_table_origin_name(res->origin[b]));
   printf("\n");
@@ -178,14 +196,9 @@ json_t *rp_gate_dsd_json(const rp_gate_request *req, const rp_cli_dsd_built *dsd
   } else {
     json_object_set_new(o, "bins", json_integer((json_int_t)d->n_bins));
   }
-  json_object_set_new(o, "nt_m3", rp_json_real(m->nt_m3));
-  json_object_set_new(o, "lwc_g_m3", rp_json_real(m->lwc_g_m3));
-  json_object_set_new(o, "rain_rate_mm_h", rp_json_real(m->rain_rate_mm_h));
-  json_object_set_new(o, "dm_mm", rp_json_real(m->dm_mm));
-  json_object_set_new(o, "d0_mm", rp_json_real(m->d0_mm));
-  json_object_set_new(o, "sigma_m_mm", rp_json_real(m->sigma_m_mm));
-  json_object_set_new(o, "nw_m3_mm", rp_json_real(m->nw_m3_mm));
-  json_object_set_new(o, "z_rayleigh_dbz", rp_json_real(m->z_rayleigh_dbz));
+  for (int id = RP_FIELD_FIRST_DSD; id <= RP_FIELD_LAST_DSD; id++)
+    json_object_set_new(o, rp_field_get((rp_field_id)id)->key,
+                        rp_json_real(rp_field_value((rp_field_id)id, NULL, m)));
   json_object_set_new(o, "fall_speed_model", json_string(rp_fallspeed_name(RP_FALL_DEFAULT)));
   /* --height: the rain rate's fall speeds were corrected to the air at this height */
   json_object_set_new(o, "fall_speed_height_km",
@@ -203,16 +216,9 @@ json_t *rp_gate_result_json(const rp_gate_request *req, int b, const rp_gate_res
   json_object_set_new(o, "shape_model",
                       json_string(c->axis_ratio_fixed > 0.0 ? "fixed" : rp_shape_name(c->shape)));
   json_object_set_new(o, "canting_sd_deg", rp_json_real(c->canting_sd_deg));
-  json_object_set_new(o, "zh_dbz", rp_json_real(r->zh_dbz));
-  json_object_set_new(o, "zv_dbz", rp_json_real(r->zv_dbz));
-  json_object_set_new(o, "zdr_db", rp_json_real(r->zdr_db));
-  json_object_set_new(o, "kdp_deg_km", rp_json_real(r->kdp_deg_km));
-  json_object_set_new(o, "rhohv", rp_json_real(r->rhohv));
-  json_object_set_new(o, "delta_hv_deg", rp_json_real(r->delta_hv_deg));
-  json_object_set_new(o, "ldr_db", rp_json_real(r->ldr_db));
-  json_object_set_new(o, "ah_db_km", rp_json_real(r->ah_db_km));
-  json_object_set_new(o, "av_db_km", rp_json_real(r->av_db_km));
-  json_object_set_new(o, "adp_db_km", rp_json_real(r->adp_db_km));
+  for (int id = RP_FIELD_FIRST_RADAR; id <= RP_FIELD_LAST_RADAR; id++)
+    json_object_set_new(o, rp_field_get((rp_field_id)id)->key,
+                        rp_json_real(rp_field_value((rp_field_id)id, r, NULL)));
   json_object_set_new(o, "kw2", rp_json_real(req->kw2));
   json_object_set_new(o, "canting_model", json_string(rp_canting_model_name(c->canting_model)));
   json_object_set_new(o, "method", json_string(rp_method_name(c->method)));

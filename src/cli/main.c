@@ -8,7 +8,6 @@
 
 #include "cli/cli.h"
 #include "rainprint/version.h"
-#include "cli/gate_run.h"
 
 static const rp_cli_command commands[] = {
     {"drop", "scattering of one drop: amplitudes, cross-sections, axis ratio", rp_cmd_drop},
@@ -18,6 +17,7 @@ static const rp_cli_command commands[] = {
     {"curve", "one DSD or scattering parameter varied over a range: CSV/JSON and a picture", rp_cmd_curve},
     {"presets", "list the named rains with their parameters and S-band values", rp_cmd_presets},
     {"relate", "fit rain relations (R(Zh), R(KDP), AH(KDP), ...) for a band from DSDs", rp_cmd_relate},
+    {"cache", "list or clear the cache of computed scattering tables", rp_cmd_cache},
 };
 #define N_COMMANDS (sizeof commands / sizeof commands[0])
 
@@ -65,7 +65,6 @@ int main(int argc, char **argv) {
   for (size_t i = 0; i < N_COMMANDS; i++) {
     if (strcmp(argv[1], commands[i].name) == 0) {
       const int rc = commands[i].run(argc - 1, argv + 1);
-      rp_gate_run_cleanup();
       return check_stdout(argv[1], rc);
     }
   }

@@ -97,7 +97,7 @@ has "spectrum" err
 expect 2 "$rp" gate --preset no-such-rain
 has "no-such-rain" err
 expect 2 "$rp" gate --dsd lognormal
-has "unknown model" err
+has "unknown --dsd value .lognormal. (valid values are exponential" err
 expect 2 "$rp" gate --dsd gamma --n0 8000 --mu 2
 has "lambda" err
 expect 2 "$rp" gate --dsd exponential --n0 8000 --lambda 2 --nw 5

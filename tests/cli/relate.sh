@@ -76,7 +76,7 @@ has "R(Zh,ZDR)" "$work/err"
 has "R(kdp)" "$work/err"
 expect 2 "$rp" relate --relations "R(KDP),,AH(KDP)"
 expect 2 "$rp" relate --ensemble 20
-has "too small" "$work/err"
+has "allowed range \[50, " "$work/err"
 expect 2 "$rp" relate --ensemble 0
 expect 2 "$rp" relate --ensemble many
 expect 2 "$rp" relate --band X --min-kdp 100
@@ -88,7 +88,7 @@ has "no valid rows" "$work/err"
 expect 2 "$rp" relate --spectra "$work/no-such-file.csv"
 expect 2 "$rp" relate --spectra "$data/spectra_brackenford.csv" --seed 3
 expect 2 "$rp" relate --spectra "$data/spectra_brackenford.csv" --max-diameter 9
-has "8 mm" "$work/err"
+has "allowed range (0, 8\]" "$work/err"
 expect 2 "$rp" relate --min-nt 5
 expect 2 "$rp" relate --climate tundra
 has "mixed" "$work/err"
