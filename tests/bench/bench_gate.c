@@ -103,14 +103,18 @@ int main(int argc, char **argv) {
   const double t_fast_alloc = now_s() - t0;
 
   /* parameters drawn beforehand: Nw log-uniform in [1e2, 1e5], D0 in [0.3, 3.5] mm,
-   * mu in [-1, 12] */
+   * mu in [-1, 12], redrawn while the liquid water content
+   * W = Nw pi rho_w D0^4 / 3.67^4 (g m^-3, rho_w = 1e-3 g mm^-3) exceeds 10 g m^-3 (a
+   * physical rain; the DSD constructors refuse absurd water contents) */
   const size_t n_par = 4096;
   double *nw = column(n_par), *d0 = column(n_par), *mu = column(n_par);
   rp_dsd *dsd = calloc(n_par, sizeof *dsd);
   if (dsd == NULL) return 1;
   for (size_t i = 0; i < n_par; i++) {
-    nw[i] = pow(10.0, 2.0 + 3.0 * uniform01());
-    d0[i] = 0.3 + 3.2 * uniform01();
+    do {
+      nw[i] = pow(10.0, 2.0 + 3.0 * uniform01());
+      d0[i] = 0.3 + 3.2 * uniform01();
+    } while (nw[i] * M_PI * 1e-3 * pow(d0[i], 4) / pow(3.67, 4) > 10.0);
     mu[i] = -1.0 + 13.0 * uniform01();
     if (rp_dsd_normalized_gamma_d0(&dsd[i], nw[i], d0[i], mu[i], &err) != RP_OK) {
       fprintf(stderr, "bench_gate: %s\n", err.msg);
