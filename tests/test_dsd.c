@@ -67,8 +67,9 @@ static void test_dsd_untruncated_moments_equal_gamma_closed_form(void **state) {
 static void test_dsd_truncated_moments_equal_poisson_sum(void **state) {
   (void)state;
   /* Truncated moments with integer mu + n + 1 against the finite Poisson sum (helper
-   * above): an independent closed form of the incomplete gamma function. */
-  const double n0 = 5000.0, lam = 2.2;
+   * above): an independent closed form of the incomplete gamma function. N0 = 50 keeps
+   * the implied LWC below RP_DSD_LWC_MAX for every mu here. */
+  const double n0 = 50.0, lam = 2.2;
   const int mus[] = {0, 1, 3, 6};
   for (size_t i = 0; i < sizeof mus / sizeof mus[0]; i++) {
     rp_dsd d;
@@ -166,7 +167,9 @@ static void test_dsd_d0_root_matches_gamma_median(void **state) {
   for (double mu = -2.0; mu <= 15.0; mu += 0.5) {
     rp_dsd d;
     const double lam = 3.0;
-    assert_int_equal(rp_dsd_gamma(&d, 1e4, mu, lam, NULL), RP_OK);
+    /* N0 giving about 1 g m^-3 (within the LWC bounds); D0 does not depend on N0 */
+    const double n0 = pow(lam, mu + 4.0) / (M_PI / 6.0 * 1e-3 * tgamma(mu + 4.0));
+    assert_int_equal(rp_dsd_gamma(&d, n0, mu, lam, NULL), RP_OK);
     /* dmin 1e-12 mm instead of 0 keeps M0 finite for mu <= -1; it moves the M3
      * fraction by (Lambda dmin)^(mu+4) < 1e-23 */
     assert_int_equal(rp_dsd_set_truncation(&d, 1e-12, HUGE_VAL, NULL), RP_OK);
@@ -522,8 +525,11 @@ static void test_dsd_moment_statuses(void **state) {
   assert_int_equal(rp_dsd_set_truncation(&d, 0.0, 8.0, NULL), RP_OK);
   assert_int_equal(rp_dsd_moment(&d, 0.0, &m, &e), RP_EDOM);
   assert_non_null(strstr(e.msg, "diverges"));
-  /* overflow: N0 = 1e300 times ∫ D^30 dD ~ 1e300 * 8^31 / 31 */
-  assert_int_equal(rp_dsd_gamma(&d, 1e300, 0.0, 1e-3, NULL), RP_OK);
+  /* overflow: N0 = 1e300 times ∫ D^30 dD ~ 1e300 * 8^31 / 31 (a hand-edited DSD: the
+   * constructor refuses such an N0 through its LWC bound) */
+  assert_int_equal(rp_dsd_gamma(&d, 1e300, 0.0, 1e-3, NULL), RP_EDOM);
+  assert_int_equal(rp_dsd_gamma(&d, 1.0, 0.0, 1e-3, NULL), RP_OK);
+  d.n0 = 1e300;
   assert_int_equal(rp_dsd_moment(&d, 30.0, &m, &e), RP_EDOM);
   assert_non_null(strstr(e.msg, "overflows"));
   /* a hand-edited DSD that is not valid */
@@ -608,6 +614,68 @@ static int dump(void) {
   return 0;
 }
 
+/* Every input quantity has bounds (dsd.h); the examples are the ones that gave
+ * 3000 dBZ or an infinite rain rate with RP_OK before. */
+static void test_dsd_bounds_refuse_unphysical_inputs(void **state) {
+  (void)state;
+  rp_dsd d;
+  rp_error e = {0};
+  assert_int_equal(rp_dsd_marshall_palmer(&d, 1e250, &e), RP_EDOM);
+  assert_non_null(strstr(e.msg, "rain rate"));
+  assert_int_equal(rp_dsd_marshall_palmer(&d, RP_DSD_RAIN_RATE_MAX, &e), RP_OK);
+  assert_int_equal(rp_dsd_marshall_palmer(&d, RP_DSD_RAIN_RATE_MIN * 0.5, &e), RP_EDOM);
+  assert_int_equal(rp_dsd_exponential(&d, 1e300, 2.0, &e), RP_EDOM);
+  assert_non_null(strstr(e.msg, "liquid water content"));
+  assert_int_equal(rp_dsd_exponential(&d, 1e-300, 2.0, &e), RP_EDOM);
+  assert_int_equal(rp_dsd_gamma(&d, 1e4, 2.0, 1e-300, &e), RP_EDOM);
+  assert_int_equal(rp_dsd_normalized_gamma_d0(&d, 1e300, 1.6, 3.0, &e), RP_EDOM);
+  assert_non_null(strstr(e.msg, "Nw"));
+  assert_int_equal(rp_dsd_normalized_gamma_dm(&d, RP_DSD_NW_MIN * 0.5, 1.6, 3.0, &e), RP_EDOM);
+  assert_int_equal(rp_dsd_normalized_gamma_dm(&d, RP_DSD_NW_MAX, 0.1, 3.0, &e), RP_OK);
+  /* a heavy but physical rain passes: Nw 10^4, D0 2.5 mm (6.8 g m^-3) */
+  assert_int_equal(rp_dsd_normalized_gamma_d0(&d, 1e4, 2.5, 0.0, &e), RP_OK);
+  /* a spectrum bin at 1e307 (kept as a relation sample before) */
+  const double c[] = {1.0, 2.0}, w[] = {1.0, 1.0}, big[] = {10.0, 1e307}, wet[] = {1e9, 1e9};
+  assert_int_equal(rp_dsd_spectrum(&d, c, w, big, 2, &e), RP_EDOM);
+  assert_non_null(strstr(e.msg, "bin 1"));
+  assert_int_equal(rp_dsd_spectrum(&d, c, w, wet, 2, &e), RP_EDOM); /* 4e6 g m^-3 */
+  assert_non_null(strstr(e.msg, "liquid water content"));
+  /* a hand-edited DSD whose rain rate overflows: an error, never RP_OK with inf */
+  rp_dsd_moments m;
+  assert_int_equal(rp_dsd_gamma(&d, 1.0, 0.0, 1.0, &e), RP_OK);
+  d.n0 = 1e306;
+  assert_int_equal(rp_dsd_moments_eval(&d, RP_FALL_ATLAS, 1.0, &m, &e), RP_EDOM);
+  d.n0 = 1e20; /* finite everywhere, but 10^16 g m^-3 */
+  assert_int_equal(rp_dsd_moments_eval(&d, RP_FALL_ATLAS, 1.0, &m, &e), RP_EDOM);
+  assert_non_null(strstr(e.msg, "liquid water content"));
+}
+
+/* The two normalised intercepts: Nw(D0) = 3.67^4 W / (pi rho_w D0^4) (Bringi et al.
+ * 2003) beside Nw(Dm) = 4^4 W / (pi rho_w Dm^4) (Testud et al. 2001). For the
+ * untruncated D0-form gamma, W = pi rho_w Nw D0'^4 / 3.67^4 exactly for the given D0'
+ * (integrate the form: f(mu) cancels Gamma(mu+4)/(3.67+mu)^(mu+4)), so
+ * nw_d0 (D0/D0')^4 = Nw to round-off (1e-9: D0 from the root finder to 1e-13, W from
+ * incomplete gamma functions ~1e-14). The computed median differs from D0' by
+ * Ulbrich's approximation Lambda D0 ~ 3.67 + mu (a few parts per thousand for mu 0-5,
+ * from memory), so nw_d0 itself matches Nw to 2 %. */
+static void test_dsd_moments_give_both_normalised_intercepts(void **state) {
+  (void)state;
+  rp_error e = {0};
+  for (double mu = 0.0; mu <= 5.0; mu += 2.5) {
+    rp_dsd d;
+    rp_dsd_moments m;
+    const double nw = 8000.0, d0 = 1.4;
+    assert_int_equal(rp_dsd_normalized_gamma_d0(&d, nw, d0, mu, &e), RP_OK);
+    assert_int_equal(rp_dsd_set_truncation(&d, 0.0, INFINITY, &e), RP_OK);
+    if (rp_dsd_moments_eval(&d, RP_FALL_ATLAS, 1.0, &m, &e) != RP_OK) fail_msg("%s", e.msg);
+    assert_close(m.nw_d0_m3_mm * pow(m.d0_mm / d0, 4.0), nw, 1e-9, 0.0);
+    assert_close(m.nw_d0_m3_mm, nw, 0.02, 0.0);
+    /* the Dm-based one is its own quantity: equal only when 3.67/D0 = 4/Dm */
+    assert_close(m.nw_m3_mm / m.nw_d0_m3_mm,
+                 pow(4.0 / RP_DSD_C_D0, 4.0) * pow(m.d0_mm / m.dm_mm, 4.0), 1e-12, 0.0);
+  }
+}
+
 int main(int argc, char **argv) {
   rp_test_init();
   if (argc > 1 && strcmp(argv[1], "--dump") == 0) return dump();
@@ -631,6 +699,8 @@ int main(int argc, char **argv) {
       cmocka_unit_test(test_dsd_truncation_rejects_bad_interval),
       cmocka_unit_test(test_dsd_moment_statuses),
       cmocka_unit_test(test_dsd_moments_eval_statuses),
+      cmocka_unit_test(test_dsd_bounds_refuse_unphysical_inputs),
+      cmocka_unit_test(test_dsd_moments_give_both_normalised_intercepts),
   };
   return cmocka_run_group_tests_name("dsd", tests, NULL, NULL);
 }

@@ -43,6 +43,24 @@
  * counts as 0, and neighbours may overlap by this much (used by rp_dsd_spectrum, the
  * spectrum CSV reader and the gate integrator alike). */
 #define RP_DSD_BIN_SLACK_MM 1e-9
+/* Bounds on every input quantity (one place; the table with sources and reasons is in
+ * docs/notes/reliability.md). They keep every integral in a physical range, far from
+ * overflow, so that a result is either finite or an error:
+ *   Nw (normalised intercept)      [RP_DSD_NW_MIN, RP_DSD_NW_MAX] m^-3 mm^-1
+ *   Marshall-Palmer rain rate      [RP_DSD_RAIN_RATE_MIN, RP_DSD_RAIN_RATE_MAX] mm h^-1
+ *   liquid water content implied by the parameters of any analytic model (untruncated,
+ *   so it bounds every truncation) and of a spectrum, and the LWC of any result
+ *                                  [RP_DSD_LWC_MIN, RP_DSD_LWC_MAX] g m^-3
+ *   spectrum bin concentration     [0, RP_DSD_CONC_MAX] m^-3 mm^-1
+ * N0 and Lambda have no bound of their own (the units of N0 depend on mu): they are
+ * bounded through the LWC they imply. Out of range: RP_EDOM naming the quantity. */
+#define RP_DSD_NW_MIN 1e-2
+#define RP_DSD_NW_MAX 1e9
+#define RP_DSD_RAIN_RATE_MIN 1e-3
+#define RP_DSD_RAIN_RATE_MAX 1000.0
+#define RP_DSD_LWC_MIN 1e-12
+#define RP_DSD_LWC_MAX 1000.0
+#define RP_DSD_CONC_MAX 1e9
 /* Constants c of the two normalised-gamma forms. */
 #define RP_DSD_C_D0 3.67
 #define RP_DSD_C_DM 4.0
@@ -80,7 +98,11 @@ typedef struct {
   double dm_mm;             /* mass-weighted mean diameter M4/M3 (mm) */
   double d0_mm;             /* median volume diameter (mm) */
   double sigma_m_mm;        /* mass-weighted standard deviation of D (mm) */
-  double nw_m3_mm;          /* normalised intercept 4^4 W/(pi rho_w Dm^4) (m^-3 mm^-1) */
+  double nw_m3_mm;          /* normalised intercept of the Dm form (Testud et al. 2001):
+                               4^4 W/(pi rho_w Dm^4) (m^-3 mm^-1); the JSON key
+                               "nw_m3_mm" of the tool is this one */
+  double nw_d0_m3_mm;       /* normalised intercept of the D0 form (Bringi et al. 2003):
+                               3.67^4 W/(pi rho_w D0^4) (m^-3 mm^-1) */
   double z_rayleigh_mm6_m3; /* M6 (mm^6 m^-3) */
   double z_rayleigh_dbz;    /* 10 log10 M6 (dBZ) */
 } rp_dsd_moments;
@@ -88,8 +110,10 @@ typedef struct {
 /* Constructors. Each fills *d completely (truncation set to the defaults) and returns
  * RP_OK, or leaves *d untouched and returns:
  *   RP_EINVAL  d is NULL, or a parameter is NaN, infinite, zero or negative;
- *   RP_EDOM    mu outside [RP_DSD_MU_MIN, RP_DSD_MU_MAX], or D0/Dm above
- *              RP_DSD_D_LIMIT_MM (gamma and normalised gamma only).
+ *   RP_EDOM    mu outside [RP_DSD_MU_MIN, RP_DSD_MU_MAX], D0/Dm above
+ *              RP_DSD_D_LIMIT_MM (gamma and normalised gamma only), Nw or the rain rate
+ *              outside its bounds, or an implied (untruncated) LWC outside
+ *              [RP_DSD_LWC_MIN, RP_DSD_LWC_MAX] (the message names the parameters).
  * n0: m^-3 mm^-1 (exponential) or m^-3 mm^-(1+mu) (gamma); lambda in mm^-1;
  * rain_rate in mm h^-1; nw in m^-3 mm^-1; d0/dm in mm. */
 rp_status rp_dsd_exponential(rp_dsd *d, double n0, double lambda_per_mm, rp_error *err);
@@ -107,7 +131,8 @@ rp_status rp_dsd_normalized_gamma_dm(rp_dsd *d, double nw, double dm_mm, double 
  * slack for decimal round-off), concentrations finite and >= 0, the first bin starting
  * below 10 mm. Truncation defaults to [lower edge of the first bin, min(upper edge of
  * the last bin, 10 mm)].
- * Returns RP_OK or RP_EINVAL (message names the bin index and value). */
+ * Returns RP_OK; RP_EINVAL (message names the bin index and value); RP_EDOM for a
+ * concentration above RP_DSD_CONC_MAX or a total LWC above RP_DSD_LWC_MAX. */
 rp_status rp_dsd_spectrum(rp_dsd *d, const double *center, const double *width,
                           const double *conc, size_t n, rp_error *err);
 
@@ -135,8 +160,10 @@ rp_status rp_dsd_moment(const rp_dsd *d, double n, double *m, rp_error *err);
  * [dmin, min(dmax, 10 mm)] (bins for spectra). D0 is found by bracketing the
  * cumulative M3 fraction = 0.5 (analytic) or by linear interpolation inside the bin
  * where it crosses 0.5 (spectra).
+ * Every field of a successful result is finite.
  * Returns RP_OK; RP_EINVAL (NULL, density_factor not finite or <= 0, malformed d);
- * RP_EDOM (no water in the interval: M3 = 0, e.g. an empty spectrum); RP_ENOCONV
+ * RP_EDOM (no water in the interval: M3 = 0, e.g. an empty spectrum; a result that is
+ * not finite or an LWC above RP_DSD_LWC_MAX, e.g. from a hand-edited DSD); RP_ENOCONV
  * (quadrature or root finder did not converge); RP_EGSL; or any status of
  * rp_fallspeed_eval, with its message. */
 rp_status rp_dsd_moments_eval(const rp_dsd *d, rp_fall_model fall, double density_factor,

@@ -87,6 +87,36 @@ static rp_status check_mu(const char *what, double mu, rp_error *err) {
   return RP_OK;
 }
 
+/* RP_EDOM unless lo <= x <= hi. */
+static rp_status check_range(const char *what, const char *name, double x, double lo,
+                             double hi, const char *unit, rp_error *err) {
+  if (!(x >= lo && x <= hi))
+    return rp_error_set(err, RP_EDOM, "%s DSD: %s = %g %s outside [%g, %g] %s", what, name, x,
+                        unit, lo, hi, unit);
+  return RP_OK;
+}
+
+/* The LWC of N0 D^mu exp(-Lambda D) over (0, RP_DSD_D_LIMIT_MM], the widest finite
+ * truncation (so it bounds every finite truncation): (pi/6) rho_w N0 Gamma(mu+4)
+ * P(mu+4, 10 Lambda) / Lambda^(mu+4), in logs (the factors span hundreds of decades);
+ * it must lie within [RP_DSD_LWC_MIN, RP_DSD_LWC_MAX]. */
+static rp_status check_implied_lwc(const char *what, double n0, double mu, double lam,
+                                   rp_error *err) {
+  gsl_sf_result lg, p;
+  if (gsl_sf_lngamma_e(mu + 4.0, &lg) != GSL_SUCCESS ||
+      gsl_sf_gamma_inc_P_e(mu + 4.0, lam * RP_DSD_D_LIMIT_MM, &p) != GSL_SUCCESS)
+    return rp_error_set(err, RP_EDOM, "%s DSD: incomplete gamma of order %g failed", what,
+                        mu + 4.0);
+  const double log_w = log(M_PI / 6.0 * RHO_W_G_MM3) + log(n0) + lg.val - (mu + 4.0) * log(lam) +
+                       log(p.val);
+  if (!(log_w >= log(RP_DSD_LWC_MIN) && log_w <= log(RP_DSD_LWC_MAX)))
+    return rp_error_set(err, RP_EDOM, "%s DSD: N0 = %g, mu = %g, Lambda = %g mm^-1 imply a "
+                        "liquid water content of %g g m^-3 (drops up to %g mm), outside [%g, "
+                        "%g] g m^-3", what, n0, mu, lam, exp(log_w), RP_DSD_D_LIMIT_MM,
+                        RP_DSD_LWC_MIN, RP_DSD_LWC_MAX);
+  return RP_OK;
+}
+
 static void init_analytic(rp_dsd *d, rp_dsd_model model, double n0, double mu,
                           double lambda) {
   memset(d, 0, sizeof *d);
@@ -131,6 +161,7 @@ rp_status rp_dsd_exponential(rp_dsd *d, double n0, double lambda_per_mm, rp_erro
   if (d == NULL) return rp_error_set(err, RP_EINVAL, "exponential DSD: output is NULL");
   RP_TRY(check_positive("exponential", "N0", n0, "m^-3 mm^-1", err));
   RP_TRY(check_positive("exponential", "Lambda", lambda_per_mm, "mm^-1", err));
+  RP_TRY(check_implied_lwc("exponential", n0, 0.0, lambda_per_mm, err));
   init_analytic(d, RP_DSD_EXPONENTIAL, n0, 0.0, lambda_per_mm);
   return RP_OK;
 }
@@ -138,6 +169,8 @@ rp_status rp_dsd_exponential(rp_dsd *d, double n0, double lambda_per_mm, rp_erro
 rp_status rp_dsd_marshall_palmer(rp_dsd *d, double rain_rate_mm_h, rp_error *err) {
   if (d == NULL) return rp_error_set(err, RP_EINVAL, "Marshall-Palmer DSD: output is NULL");
   RP_TRY(check_positive("Marshall-Palmer", "rain rate", rain_rate_mm_h, "mm/h", err));
+  RP_TRY(check_range("Marshall-Palmer", "rain rate", rain_rate_mm_h, RP_DSD_RAIN_RATE_MIN,
+                     RP_DSD_RAIN_RATE_MAX, "mm/h", err));
   init_analytic(d, RP_DSD_MARSHALL_PALMER, MP_N0_M3_MM, 0.0,
                 MP_LAMBDA_COEF * pow(rain_rate_mm_h, MP_LAMBDA_EXP));
   d->rain_rate_mm_h = rain_rate_mm_h;
@@ -149,6 +182,7 @@ rp_status rp_dsd_gamma(rp_dsd *d, double n0, double mu, double lambda_per_mm, rp
   RP_TRY(check_positive("gamma", "N0", n0, "m^-3 mm^-(1+mu)", err));
   RP_TRY(check_mu("gamma", mu, err));
   RP_TRY(check_positive("gamma", "Lambda", lambda_per_mm, "mm^-1", err));
+  RP_TRY(check_implied_lwc("gamma", n0, mu, lambda_per_mm, err));
   init_analytic(d, RP_DSD_GAMMA, n0, mu, lambda_per_mm);
   return RP_OK;
 }
@@ -159,6 +193,7 @@ static rp_status normalized(rp_dsd *d, rp_dsd_model model, double nw, double dx_
                                                          : "normalized-gamma (Dm)";
   if (d == NULL) return rp_error_set(err, RP_EINVAL, "%s DSD: output is NULL", what);
   RP_TRY(check_positive(what, "Nw", nw, "m^-3 mm^-1", err));
+  RP_TRY(check_range(what, "Nw", nw, RP_DSD_NW_MIN, RP_DSD_NW_MAX, "m^-3 mm^-1", err));
   RP_TRY(check_positive(what, dx_name, dx_mm, "mm", err));
   if (dx_mm > RP_DSD_D_LIMIT_MM)
     return rp_error_set(err, RP_EDOM, "%s DSD: %s = %g mm outside (0, %g] mm", what,
@@ -169,6 +204,7 @@ static rp_status normalized(rp_dsd *d, rp_dsd_model model, double nw, double dx_
   if (!isfinite(n0) || n0 <= 0.0)
     return rp_error_set(err, RP_EDOM, "%s DSD: N0 = %g from Nw = %g, %s = %g mm, mu = %g "
                         "is not representable", what, n0, nw, dx_name, dx_mm, mu);
+  RP_TRY(check_implied_lwc(what, n0, mu, (c + mu) / dx_mm, err));
   init_analytic(d, model, n0, mu, (c + mu) / dx_mm);
   d->nw_m3_mm = nw;
   if (model == RP_DSD_NORMALIZED_GAMMA_D0)
@@ -193,6 +229,7 @@ rp_status rp_dsd_spectrum(rp_dsd *d, const double *center, const double *width,
   if (d == NULL) return rp_error_set(err, RP_EINVAL, "spectrum DSD: output is NULL");
   if (n == 0 || center == NULL || width == NULL || conc == NULL)
     return rp_error_set(err, RP_EINVAL, "spectrum DSD: no bins (n = %zu)", n);
+  double lwc = 0.0;
   for (size_t i = 0; i < n; i++) {
     if (!isfinite(center[i]) || center[i] <= 0.0)
       return rp_error_set(err, RP_EINVAL, "spectrum DSD: bin %zu centre %g mm must be "
@@ -207,6 +244,12 @@ rp_status rp_dsd_spectrum(rp_dsd *d, const double *center, const double *width,
       return rp_error_set(err, RP_EINVAL, "spectrum DSD: bin %zu (centre %g mm) "
                           "concentration %g m^-3 mm^-1 must be finite and >= 0", i,
                           center[i], conc[i]);
+    if (conc[i] > RP_DSD_CONC_MAX)
+      return rp_error_set(err, RP_EDOM, "spectrum DSD: bin %zu (centre %g mm) "
+                          "concentration %g m^-3 mm^-1 above %g m^-3 mm^-1", i, center[i],
+                          conc[i], RP_DSD_CONC_MAX);
+    if (center[i] <= RP_DSD_D_LIMIT_MM) /* bins above are never included */
+      lwc += M_PI / 6.0 * RHO_W_G_MM3 * conc[i] * center[i] * center[i] * center[i] * width[i];
     if (i > 0) {
       if (!(center[i] > center[i - 1]))
         return rp_error_set(err, RP_EINVAL, "spectrum DSD: bin centres not increasing: "
@@ -220,6 +263,9 @@ rp_status rp_dsd_spectrum(rp_dsd *d, const double *center, const double *width,
                             i - 1, center[i - 1] - 0.5 * width[i - 1], upper_prev);
     }
   }
+  if (!(lwc <= RP_DSD_LWC_MAX))
+    return rp_error_set(err, RP_EDOM, "spectrum DSD: liquid water content %g g m^-3 above %g "
+                        "g m^-3", lwc, RP_DSD_LWC_MAX);
   if (center[0] - 0.5 * width[0] >= RP_DSD_D_LIMIT_MM)
     return rp_error_set(err, RP_EINVAL, "spectrum DSD: every bin lies above %g mm (first "
                         "bin centre %g mm)", RP_DSD_D_LIMIT_MM, center[0]);
@@ -595,9 +641,23 @@ rp_status rp_dsd_moments_eval(const rp_dsd *d, rp_fall_model fall, double densit
   }
   /* Nw = 4^4 W / (pi rho_w Dm^4): g m^-3 / (g mm^-3 mm^4) = m^-3 mm^-1 */
   r.nw_m3_mm = 256.0 * r.lwc_g_m3 / (M_PI * RHO_W_G_MM3 * pow(r.dm_mm, 4.0));
+  /* Nw(D0) = 3.67^4 W / (pi rho_w D0^4) (Bringi et al. 2003) */
+  r.nw_d0_m3_mm = pow(RP_DSD_C_D0, 4.0) * r.lwc_g_m3 / (M_PI * RHO_W_G_MM3 * pow(r.d0_mm, 4.0));
   RP_TRY(rain_rate(d, fall, density_factor, &r.rain_rate_mm_h, err));
   r.z_rayleigh_mm6_m3 = m6;
   r.z_rayleigh_dbz = 10.0 * log10(m6);
+  const struct { const char *name; double v; } fields[] = {
+      {"Nt", r.nt_m3}, {"LWC", r.lwc_g_m3}, {"rain rate", r.rain_rate_mm_h}, {"Dm", r.dm_mm},
+      {"D0", r.d0_mm}, {"sigma_m", r.sigma_m_mm}, {"Nw", r.nw_m3_mm}, {"Nw(D0)", r.nw_d0_m3_mm},
+      {"Z", r.z_rayleigh_mm6_m3}, {"dBZ", r.z_rayleigh_dbz}};
+  for (size_t i = 0; i < sizeof fields / sizeof fields[0]; i++)
+    if (!isfinite(fields[i].v))
+      return rp_error_set(err, RP_EDOM, "%s DSD: %s = %g is not finite (parameters outside a "
+                          "physical range)", rp_dsd_model_name(d->model), fields[i].name,
+                          fields[i].v);
+  if (r.lwc_g_m3 > RP_DSD_LWC_MAX)
+    return rp_error_set(err, RP_EDOM, "%s DSD: liquid water content %g g m^-3 above %g g m^-3",
+                        rp_dsd_model_name(d->model), r.lwc_g_m3, RP_DSD_LWC_MAX);
   *out = r;
   return RP_OK;
 }
