@@ -10,7 +10,7 @@ shift || true
 packages=(build-essential make cmake pkg-config
           libgsl-dev libfftw3-dev libnetcdf-dev netcdf-bin libcmocka-dev
           libcyaml-dev libyaml-dev libjansson-dev libplplot-dev plplot-driver-cairo
-          python3 python3-numpy python3-scipy valgrind
+          python3 python3-numpy python3-scipy python3-netcdf4 python3-xarray valgrind
           clang libclang-rt-14-dev libomp-dev)
 
 missing=()
