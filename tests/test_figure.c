@@ -10,6 +10,7 @@
 
 #include <dirent.h>
 #include <errno.h>
+#include <plplot.h>
 #include <fcntl.h>
 #include <string.h>
 #include <sys/mount.h>
@@ -501,6 +502,38 @@ static void test_missing_folder_is_eio_and_leaves_nothing(void **state) {
   assert_int_equal(count_entries(f->dir), 0);
 }
 
+/* PLplot allows 100 streams (PL_NSTREAMS in plstrm.h); with all taken no figure can be
+ * opened: RP_EPLOT and no file left (PLplot itself prints "plmkstrm: Cannot create new
+ * stream" on stderr here). */
+static void test_no_free_plplot_stream_is_eplot(void **state) {
+  fixture *f = *state;
+  demo d;
+  make_demo(&d);
+  char path[2048];
+  rp_error e = {0};
+  PLINT old, made[128];
+  int n = 0;
+  plgstrm(&old);
+  for (;;) {
+    PLINT s = -1;
+    plmkstrm(&s);
+    if (s < 0 || n == 128) break;
+    made[n++] = s;
+  }
+  plsstrm(old);
+  in_dir(f, "nostream.pdf", path, sizeof path);
+  rp_status st = rp_figure_write(path, &d.fig, &e);
+  for (int i = 0; i < n; i++) {
+    plsstrm(made[i]);
+    plend1();
+  }
+  plsstrm(old);
+  assert_int_equal(st, RP_EPLOT);
+  assert_non_null(strstr(e.msg, "stream"));
+  assert_int_equal(count_entries(f->dir), 0);
+  assert_int_equal(rp_figure_write(path, &d.fig, &e), RP_OK); /* and again afterwards */
+}
+
 /* ------------------------------------------------------- ticks and ranges */
 
 /* One label style per axis: either every non-zero label is a power of ten or none is. */
@@ -687,6 +720,7 @@ int main(void) {
       cmocka_unit_test_setup_teardown(test_check_file_finds_truncated_pictures, setup, teardown),
       cmocka_unit_test_setup_teardown(test_bad_figures_are_einval_and_leave_nothing, setup, teardown),
       cmocka_unit_test_setup_teardown(test_missing_folder_is_eio_and_leaves_nothing, setup, teardown),
+      cmocka_unit_test_setup_teardown(test_no_free_plplot_stream_is_eplot, setup, teardown),
       cmocka_unit_test(test_ticks_keep_one_label_style_per_axis),
       cmocka_unit_test(test_log_axis_of_less_than_a_decade_gets_finer_ticks),
       cmocka_unit_test(test_axis_range_follows_the_data),
