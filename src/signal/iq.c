@@ -44,9 +44,16 @@
  * in the workspace (computed at allocation; no global state). Distribution checked in
  * tests/test_iq.c (moments and a Kolmogorov-Smirnov test against GSL's normal CDF).
  *
+ * Noise in the spectral domain when N = M (the usual case for broad spectra): all N
+ * samples are kept, and white noise of power 1 is white in the spectral domain
+ * (coefficients of variance 1/N), so H_j = X_j + Nh_j, V_j = a X_j + Z_j with
+ * Z_j = b Y_j + Nv_j drawn as one Gaussian of the summed variance: 3 complex deviates
+ * per bin instead of 2 per bin + 2 per pulse.
+ *
  * Draw order from the stream (fixed, so a seed gives the same samples anywhere):
- * X_0..X_{N-1} (real, imaginary), then W's coefficients when rho < 1, then for each
- * pulse the H noise and the V noise.
+ * N = M: per bin j, X_j, Nh_j, Z_j (each real, imaginary). N > M: X_0..X_{N-1} (real,
+ * imaginary), then W's coefficients when rho < 1, then for each pulse the H noise and
+ * the V noise.
  *
  * Invariants: no allocation per gate (plans made once per size per workspace); no
  * global state besides the planner mutex of fft_plan.c. */
@@ -441,20 +448,48 @@ rp_status rp_iq_synthesize(rp_iq_workspace *ws, const rp_iq_params *p,
   const double s_h = pow(10.0, p->snr_db / 10);
   const double scale = 0.5 * s_h / dsum;   /* 0.5: variance of each of re, im */
   const double rho = p->rhohv;
+  const double g = pow(10.0, -p->zdr_db / 20);
+  const double phi = p->phidp_deg * (M_PI / 180);
+  const double complex a_s = g * rho * cexp(-IU * phi);
+  const double b_w = g * sqrt(fmax(0.0, 1 - rho * rho));
+  const double complex step = cexp(IU * TWO_PI * fs);
+  double complex ph = 1;
+  if (n == m) {
+    /* All M samples of an N = M series: white noise is white in the spectral domain too
+     * (coefficients of variance 1/N each; the modulation by e^{2 pi i f_s m} keeps it
+     * white), so the noise joins the coefficients: H_j = X_j + Nh_j and
+     * V_j = a_s X_j + Z_j, Z_j = b_w Y_j + Nv_j drawn as one Gaussian of the summed
+     * variance. 3 complex deviates per bin instead of 4. */
+    const double sn = sqrt(0.5 / dn);
+    const double b2 = b_w * b_w;
+    const rp_zig_table *z = &ws->zig;
+    for (size_t j = 0; j < n; j++) {
+      const double sx = sqrt(scale * dens[j]);
+      const double sz = sqrt(b2 * scale * dens[j] + 0.5 / dn);
+      const double xr = rp_signal_normal(z, rng), xi = rp_signal_normal(z, rng);
+      const double nr = rp_signal_normal(z, rng), ni = rp_signal_normal(z, rng);
+      const double zr = rp_signal_normal(z, rng), zi = rp_signal_normal(z, rng);
+      const double complex x = sx * (xr + IU * xi);
+      ws->x[j] = x + sn * (nr + IU * ni);
+      ws->y[j] = a_s * x + sz * (zr + IU * zi);
+    }
+    fftw_execute_dft(plan, ws->x, ws->x);
+    fftw_execute_dft(plan, ws->y, ws->y);
+    for (size_t k = 0; k < m; k++) {
+      if ((k & 63) == 0) ph = cexp(IU * TWO_PI * wrap_unit(fs * (double)k)); /* no drift */
+      h[k] = ws->x[k] * ph;
+      v[k] = ws->y[k] * ph;
+      ph *= step;
+    }
+    return RP_OK;
+  }
   fill_coefficients(&ws->zig, ws->x, dens, n, scale, rng);
   fftw_execute_dft(plan, ws->x, ws->x);
   if (rho < 1) {
     fill_coefficients(&ws->zig, ws->y, dens, n, scale, rng);
     fftw_execute_dft(plan, ws->y, ws->y);
   }
-
-  const double g = pow(10.0, -p->zdr_db / 20);
-  const double phi = p->phidp_deg * (M_PI / 180);
-  const double complex a_s = g * rho * cexp(-IU * phi);
-  const double b_w = g * sqrt(fmax(0.0, 1 - rho * rho));
   const double sq_half = sqrt(0.5);
-  const double complex step = cexp(IU * TWO_PI * fs);
-  double complex ph = 1;
   for (size_t k = 0; k < m; k++) {
     if ((k & 63) == 0) ph = cexp(IU * TWO_PI * wrap_unit(fs * (double)k)); /* no drift */
     const double complex s = ws->x[k] * ph;
