@@ -207,7 +207,8 @@ static int build_spectrum(const char *cmd, const rp_cli_dsd *o, rp_cli_dsd_built
     return rp_cli_fail(cmd, RP_EINVAL, "%s: --row %ld but the file has %zu data rows", o->spectrum,
                        o->row, set->n_rows);
   const size_t row = (size_t)o->row - 1;
-  if (rp_spectrum_row_dsd(set, row, &out->dsd, &err) != RP_OK) return rp_cli_fail_err(cmd, &err);
+  if (rp_spectrum_row_dsd(set, row, &out->dsd, &err) != RP_OK)
+    return rp_cli_fail(cmd, err.status, "%s: data row %ld: %s", o->spectrum, o->row, err.msg);
   snprintf(out->label, sizeof out->label, "%s row %ld%s%s", o->spectrum, o->row,
            set->labels && set->labels[row] && set->labels[row][0] ? " " : "",
            set->labels && set->labels[row] ? set->labels[row] : "");

@@ -188,10 +188,10 @@ static int compute(const relate_args *a, relate_state *st) {
     if (rp_spectrum_load(a->spectra, &st->set, &err) != RP_OK) return rp_cli_fail_err("relate", &err);
     st->rows = calloc(st->set->n_rows ? st->set->n_rows : 1, sizeof *st->rows);
     if (st->rows == NULL) return rp_cli_fail("relate", RP_ENOMEM, "out of memory");
-    if (rp_spectrum_rows_dsd(st->set, st->rows, &err) != RP_OK) {
-      rp_error_prefix(&err, "%s: ", a->spectra);
-      return rp_cli_fail_err("relate", &err);
-    }
+    for (size_t r = 0; r < st->set->n_rows; r++)  /* rows numbered from 1 in messages */
+      if (rp_spectrum_row_dsd(st->set, r, &st->rows[r], &err) != RP_OK)
+        return rp_cli_fail("relate", err.status, "%s: data row %zu: %s", a->spectra, r + 1,
+                           err.msg);
     req.source = RP_RELATE_FROM_SPECTRA;
     req.rows = st->rows;
     req.n_rows = st->set->n_rows;

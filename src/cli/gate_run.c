@@ -83,10 +83,30 @@ static void warn_water(const char *cmd, const rp_dsd *dsd, double tmin, double t
             cmd, 100.0 * *lost, tmin, tmax);
 }
 
+/* An analytic DSD reaching past the table would lose its largest drops: refused up front,
+ * with the share of water concerned and what to give instead. */
+static int check_truncation(const char *cmd, const rp_dsd *dsd, double tmin, double tmax) {
+  if (dsd->model == RP_DSD_SPECTRUM) return 0;
+  const double slack = RP_DSD_BIN_SLACK_MM;
+  if (dsd->dmin_mm >= tmin - slack && dsd->dmax_mm <= tmax + slack) return 0;
+  const double lost = rp_gate_water_outside(dsd, tmin, tmax);
+  return rp_cli_fail(cmd, RP_EDOM,
+                     "the DSD's truncation %g..%g mm (--dmin/--dmax, or the preset's) reaches "
+                     "beyond the scattering table's %g..%g mm: %.3g %% of its water would be "
+                     "left out; give --dmin/--dmax within %g..%g",
+                     dsd->dmin_mm, dsd->dmax_mm, tmin, tmax, 100.0 * lost, tmin, tmax);
+}
+
 int rp_gate_run(const char *cmd, rp_gate_session *s, const rp_gate_request *req,
                 const rp_dsd *dsd, rp_gate_run_result *out) {
   rp_error err = {0};
   memset(out, 0, sizeof *out);
+  const int bad = req->table != NULL
+                      ? check_truncation(cmd, dsd, req->table->d_mm[0],
+                                         req->table->d_mm[req->table->n - 1])
+                      : check_truncation(cmd, dsd, RP_TABLE_DMIN_DEFAULT_MM,
+                                         RP_TABLE_DMAX_DEFAULT_MM);
+  if (bad) return bad;
   double factor = 1.0; /* fall speeds as the formula gives them (1013 hPa, 20 C air) */
   if (req->correct_fall_speed &&
       rp_fallspeed_density_factor(req->height_km, &factor, &err) != RP_OK)

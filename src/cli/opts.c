@@ -340,19 +340,18 @@ const char *rp_opts_string(const rp_opts *o, const char *name, const char *fallb
 
 int rp_opts_exclusive(const rp_opts *o, ...) {
   const char *given[RP_OPTS_MAX];
-  const char *all[RP_OPTS_MAX];
   size_t n_given = 0, n_all = 0;
   va_list ap;
   va_start(ap, o);
   for (const char *name; (name = va_arg(ap, const char *)) != NULL && n_all < RP_OPTS_MAX;) {
-    all[n_all++] = name;
+    n_all++;
     if (rp_opts_given(o, name)) given[n_given++] = name;
   }
   va_end(ap);
   if (n_given <= 1) return 0;
-  if (n_all == 2) return fail(o->c, "give either --%s or --%s, not both", all[0], all[1]);
-  return fail(o->c, "--%s and --%s cannot be given together (give only one of them)", given[0],
-              given[1]);
+  if (n_given == 2) return fail(o->c, "give either --%s or --%s, not both", given[0], given[1]);
+  return fail(o->c, "--%s, --%s and --%s cannot be given together (give only one of them)",
+              given[0], given[1], given[2]);
 }
 
 int rp_opts_requires(const rp_opts *o, const char *opt, const char *needed) {
