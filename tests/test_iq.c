@@ -79,16 +79,25 @@ static void test_powers_follow_snr_and_zdr(void **state) {
 
 static void test_hv_correlation_and_phidp_sign(void **state) {
   (void)state;
-  rp_iq_params p = base_params();
-  p.snr_db = 40;
   /* <h v*> = rho sqrt(S_h S_v) e^{+i PhiDP}: PhiDP = arg <H V*>, the sign of
-   * delta_hv = arg <f_hh f_vv*> (gate.h), positive for oblate rain. */
-  lag_stat c = lag_average(&p, NULL, 2000, 1, 0, 0, 12); /* mean of v* h = <h v*> */
-  const double sh = pow(10.0, p.snr_db / 10), sv = sh * pow(10.0, -p.zdr_db / 10);
-  const double complex expect = p.rhohv * sqrt(sh * sv) * cexp(CMPLX(0, p.phidp_deg * M_PI / 180));
-  assert_close(creal(c.mean), creal(expect), 0, 5 * c.se);
-  assert_close(cimag(c.mean), cimag(expect), 0, 5 * c.se);
-  assert_true(carg(c.mean) > 0);
+   * delta_hv = arg <f_hh f_vv*> (gate.h), positive for oblate rain. Both synthesis paths:
+   * width 2 m/s (length N = M, noise in the spectral domain) and 0.1 m/s (N = 256 > M,
+   * noise in the time domain); V power too (5 standard errors). */
+  const double widths[2] = {2.0, 0.1};
+  for (int i = 0; i < 2; i++) {
+    rp_iq_params p = base_params();
+    p.snr_db = 10;
+    p.width_m_s = widths[i];
+    lag_stat c = lag_average(&p, NULL, 2000, 1, 0, 0, 12); /* mean of v* h = <h v*> */
+    lag_stat b = lag_average(&p, NULL, 2000, 1, 1, 0, 12);
+    const double sh = pow(10.0, p.snr_db / 10), sv = sh * pow(10.0, -p.zdr_db / 10);
+    const double complex expect =
+        p.rhohv * sqrt(sh * sv) * cexp(CMPLX(0, p.phidp_deg * M_PI / 180));
+    assert_close(creal(c.mean), creal(expect), 0, 5 * c.se);
+    assert_close(cimag(c.mean), cimag(expect), 0, 5 * c.se);
+    assert_close(creal(b.mean), sv + 1, 0, 5 * b.se);
+    assert_true(carg(c.mean) > 0);
+  }
 }
 
 static void test_lag1_correlation_has_no_wraparound_bias(void **state) {
