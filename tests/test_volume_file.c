@@ -155,6 +155,18 @@ static void test_written_file_reads_back(void **state) {
   /* errors: unwritable folder leaves nothing, missing file, not a volume */
   assert_int_equal(rp_volume_file_write(v, "/nonexistent-dir/v.nc", NULL, &e), RP_EIO);
   assert_int_equal(rp_volume_file_write(NULL, path, NULL, &e), RP_EINVAL);
+  assert_int_equal(rp_volume_file_write_level(v, path, NULL, 10, &e), RP_EINVAL);
+  assert_int_equal(access(path, F_OK), -1); /* nothing left behind */
+  /* uncompressed files read back the same */
+  assert_int_equal(rp_volume_file_write_level(v, path, NULL, 0, &e), RP_OK);
+  assert_int_equal(rp_volume_file_open(path, &r, &e), RP_OK);
+  double *b2 = malloc(v->n_rays * v->n_gates * sizeof *b2);
+  assert_int_equal(rp_volume_file_read_field(r, "truth_gate_flag", b2, NULL, 0, &e), RP_OK);
+  for (size_t i = 0; i < v->n_rays * v->n_gates; i++)
+    assert_close(b2[i], (double)v->field[RP_VF_TRUTH_FLAG][i], 0, 0);
+  free(b2);
+  rp_volume_file_close(r);
+  remove(path);
   assert_int_equal(rp_volume_file_open("/nonexistent-dir/v.nc", &r, &e), RP_EIO);
   char tab[512];
   assert_int_equal(rp_volume_file_open(rp_test_source_path("scattering/rainprint_C_10C.nc", tab, sizeof tab), &r, &e), RP_EPARSE);

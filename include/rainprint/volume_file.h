@@ -22,6 +22,8 @@
 #include "rainprint/volume.h"
 
 #define RP_VOLUME_FILL_VALUE (-9999.0f)
+/* Deflate level of rp_volume_file_write (with the shuffle filter). */
+#define RP_VOLUME_DEFLATE_DEFAULT 1
 
 /* Write volume v to path, whole or not at all (a temporary file renamed into place).
  * scenario_text (may be NULL) is stored as the global attribute `scenario`.
@@ -29,6 +31,12 @@
  * renamed), RP_ENETCDF (a netCDF call failed: the message names the variable). */
 rp_status rp_volume_file_write(const rp_volume *v, const char *path, const char *scenario_text,
                                rp_error *err);
+
+/* As rp_volume_file_write with deflate level deflate_level in [0, 9] (0: no compression,
+ * fastest, about 120 bytes a gate; RP_EINVAL outside). */
+rp_status rp_volume_file_write_level(const rp_volume *v, const char *path,
+                                     const char *scenario_text, int deflate_level,
+                                     rp_error *err);
 
 /* ---- reading ---------------------------------------------------------------------- */
 

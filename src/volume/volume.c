@@ -165,6 +165,7 @@ typedef struct {
   /* [k * gates + g] for elevation offset k */
   double *height_m, *ground_km, *temp_c;
   double *density;   /* fall-speed density factor at the beam centre, per gate */
+  double *zmin_dbz;  /* noise-equivalent reflectivity per gate */
 } sweep_geom;
 
 typedef struct {
@@ -189,11 +190,12 @@ static void lin_axpy(double w, const rp_gate_linear *b, rp_gate_linear *a) {
   a->adp_db_km += w * b->adp_db_km;
 }
 
-static double radial_wind(const rp_scenario *s, double x_km, double y_km, double az,
-                          double el) {
+/* radial component of the wind at map point (x, y) along azimuth (sin_az, cos_az) */
+static double radial_wind(const rp_scenario *s, double x_km, double y_km, double sin_az,
+                          double cos_az, double cos_el) {
   double u, vv;
   rp_scenario_wind_at(s, x_km, y_km, &u, &vv);
-  return (u * sin(az) + vv * cos(az)) * cos(el);
+  return (u * sin_az + vv * cos_az) * cos_el;
 }
 
 /* One ray: truth, propagation, noise, KDP. Returns a status with the place named. */
@@ -205,8 +207,14 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, float
   const sweep_geom *g = j->g;
   const double az = v->azimuth_deg[ray] * DEG, el = g->el_rad;
   const double sin_az = sin(az), cos_az = cos(az);
+  const double sin_el = sin(el), cos_el = cos(el);
+  /* azimuths one beam sigma either side (for the shear across the beam) */
+  const double daz = j->sigma_b_rad / cos_el;
+  const double sin_azp = sin(az + daz), cos_azp = cos(az + daz);
+  const double sin_azm = sin(az - daz), cos_azm = cos(az - daz);
+  const double sig_a = j->rot_rad_s * j->lambda * sqrt(log(2.0)) * cos_el /
+                       (2.0 * M_PI * s->radar.beamwidth_deg * DEG);
   const int nb = g->nb;
-  const int centre_k = nb / 2; /* for odd nb the central offset; even nb: geometry at 0 kept at index nb */
   double cum_a = 0, cum_adp = 0, cum_k = 0; /* one-way sums over previous gates (per km * dr) */
   float *const *F = v->field;
   const size_t row = ray * ng;
@@ -246,7 +254,6 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, float
         }
       }
     }
-    (void)centre_k;
     rp_gate_result res;
     const int has_echo = lin.zh_mm6_m3 > 0 && lin.zv_mm6_m3 > 0 &&
                          rp_gate_result_from_linear(&lin, &res, NULL) == RP_OK;
@@ -264,11 +271,14 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, float
     F[RP_VF_TRUTH_PIA][ix] = (float)pia;
     F[RP_VF_TRUTH_PIA_ZDR][ix] = (float)pia_dp;
     F[RP_VF_TRUTH_PHIDP][ix] = (float)phi_prop;
-    /* DSD truth at the centre */
+    /* DSD truth at the centre; fall speeds corrected to the air density there */
+    double vz = 0, sz = 0;
     if (flag == RP_GATE_RAIN && nw > 0) {
       rp_fallmom_value fm;
       rp_fallmom_eval(j->p->fall, d0, mu, &fm);
       const double dens = g->density[gi];
+      vz = fm.vz_ms * dens;
+      sz = fm.sigma_z_ms * dens;
       F[RP_VF_TRUTH_RAIN][ix] = (float)(fm.rain_per_nw * nw * dens);
       F[RP_VF_TRUTH_LWC][ix] = (float)(fm.lwc_per_nw * nw);
       F[RP_VF_TRUTH_D0][ix] = (float)d0;
@@ -305,38 +315,29 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, float
     F[RP_VF_TRUTH_DELTA_HV][ix] = (float)res.delta_hv_deg;
     F[RP_VF_TRUTH_RHOHV][ix] = (float)res.rhohv;
     F[RP_VF_TRUTH_LDR][ix] = (float)res.ldr_db;
-    /* Doppler: fall speed of the centre DSD (or of the beam's average DSD at the centre
-     * when the centre itself has none: then no fall-speed term) */
-    double vz = 0, sz = 0;
-    if (flag == RP_GATE_RAIN && nw > 0) {
-      rp_fallmom_value fm;
-      rp_fallmom_eval(j->p->fall, d0, mu, &fm);
-      vz = fm.vz_ms * g->density[gi];
-      sz = fm.sigma_z_ms * g->density[gi];
-    }
-    const double vr = radial_wind(s, x, y, az, el) - vz * sin(el);
-    /* shear across the beam: centred differences one beam sigma either side */
-    const double db = j->sigma_b_rad;
-    const double vp = radial_wind(s, gr * sin(az + db / cos(el)), gr * cos(az + db / cos(el)),
-                                  az + db / cos(el), el);
-    const double vm = radial_wind(s, gr * sin(az - db / cos(el)), gr * cos(az - db / cos(el)),
-                                  az - db / cos(el), el);
-    const double dv_daz = (vp - vm) / (2.0 * db);
+    /* Doppler: fall speed of the centre DSD (no fall-speed term when only beam samples
+     * off the centre hold rain) */
     double uu, vv;
     rp_scenario_wind_at(s, x, y, &uu, &vv);
-    const double dv_del = -(uu * sin_az + vv * cos_az) * sin(el) - vz * cos(el);
+    const double vh = uu * sin_az + vv * cos_az; /* horizontal wind along the beam */
+    const double vr = vh * cos_el - vz * sin_el;
+    /* shear across the beam: centred differences one beam sigma either side, in
+     * azimuth (map points displaced) and in elevation (analytic: the wind does not vary
+     * with height, so only the projection changes) */
+    const double db = j->sigma_b_rad;
+    const double vp = radial_wind(s, gr * sin_azp, gr * cos_azp, sin_azp, cos_azp, cos_el);
+    const double vm = radial_wind(s, gr * sin_azm, gr * cos_azm, sin_azm, cos_azm, cos_el);
+    const double dv_daz = (vp - vm) / (2.0 * db);
+    const double dv_del = -vh * sin_el - vz * cos_el;
     const double sig_s2 = db * db * (dv_daz * dv_daz + dv_del * dv_del);
-    const double sig_d = sz * sin(el);
-    /* antenna rotation (D&Z 1993 eq. 5.79 form, from memory) */
-    const double sig_a = j->rot_rad_s * j->lambda * sqrt(log(2.0)) * cos(el) /
-                         (2.0 * M_PI * s->radar.beamwidth_deg * DEG);
+    const double sig_d = sz * sin_el;
+    /* antenna rotation: sig_a above (D&Z 1993 eq. 5.79 form, from memory) */
     const double sig_t = s->wind.turbulence_ms;
     const double width = sqrt(sig_t * sig_t + sig_s2 + sig_d * sig_d + sig_a * sig_a);
     F[RP_VF_TRUTH_VEL][ix] = (float)vr;
     F[RP_VF_TRUTH_WIDTH][ix] = (float)width;
     /* observation */
-    const double r_m = v->range_m[gi];
-    const double zmin = s->radar.sensitivity_dbz_at_10km + 20.0 * log10(r_m / 10000.0);
+    const double zmin = g->zmin_dbz[gi];
     const double dbz_att = res.zh_dbz - pia;
     const double snr_db = dbz_att - zmin;
     if (snr_db < 0.0) continue; /* below sensitivity: fill */
@@ -395,6 +396,7 @@ static void sweep_geom_free(sweep_geom *g) {
   free(g->ground_km);
   free(g->temp_c);
   free(g->density);
+  free(g->zmin_dbz);
 }
 
 /* Geometry of every gate for each elevation offset (rows 0..nb-1) and the centre (row
@@ -407,7 +409,8 @@ static rp_status sweep_geom_fill(const rp_scenario *s, const rp_volume *v, doubl
   g->ground_km = malloc(rows * ng * sizeof *g->ground_km);
   g->temp_c = malloc(rows * ng * sizeof *g->temp_c);
   g->density = malloc(ng * sizeof *g->density);
-  if (!g->height_m || !g->ground_km || !g->temp_c || !g->density)
+  g->zmin_dbz = malloc(ng * sizeof *g->zmin_dbz);
+  if (!g->height_m || !g->ground_km || !g->temp_c || !g->density || !g->zmin_dbz)
     return rp_error_set(err, RP_ENOMEM, "volume: out of memory for the sweep geometry");
   g->el_rad = el_deg * DEG;
   for (size_t k = 0; k < rows; k++) {
@@ -428,6 +431,8 @@ static rp_status sweep_geom_fill(const rp_scenario *s, const rp_volume *v, doubl
     double f = 1.0;
     if (rp_fallspeed_density_factor(hk, &f, NULL) != RP_OK) f = 1.0;
     g->density[gi] = f;
+    /* Z_min(r) = sensitivity + 20 log10(r / 10 km) */
+    g->zmin_dbz[gi] = s->radar.sensitivity_dbz_at_10km + 20.0 * log10(v->range_m[gi] / 10000.0);
   }
   return RP_OK;
 }
@@ -544,7 +549,7 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
       break;
     }
     sweep_geom_free(&g);
-    g.height_m = g.ground_km = g.temp_c = g.density = NULL;
+    g.height_m = g.ground_km = g.temp_c = g.density = g.zmin_dbz = NULL;
     if (o->progress != NULL) o->progress(o->progress_ctx, (double)(k + 1) / (double)v->n_sweeps);
   }
   sweep_geom_free(&g);
