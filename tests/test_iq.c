@@ -174,6 +174,10 @@ static void test_average_spectrum_matches_input_chisquare(void **state) {
   size_t k0 = 0;
   for (size_t k = 0; k < m; k++) if (tru[k] > tru[k0]) k0 = k;
   assert_int_equal(k0, 4);
+  assert_close(rp_iq_bin_velocity_m_s(&p, k0), p.velocity_m_s, 1e-12, 0);
+  /* bins fold into [-v_a, v_a): bin M/2 is -v_a, bin M-1 is -2 v_a / M */
+  assert_close(rp_iq_bin_velocity_m_s(&p, m / 2), -va, 1e-12, 0);
+  assert_close(rp_iq_bin_velocity_m_s(&p, m - 1), -2 * va / (double)m, 1e-12, 0);
   free(h); free(v); free(pg); free(avg); free(tru);
   rp_iq_workspace_free(ws);
 }
@@ -246,6 +250,7 @@ static void test_parameter_errors_name_the_quantity(void **state) {
   EXPECT(rhohv, -0.01, RP_EINVAL, "rhoHV");
   EXPECT(snr_db, NAN, RP_EINVAL, "SNR");
   EXPECT(snr_db, 500, RP_EDOM, "SNR");
+  EXPECT(snr_db, -101, RP_EDOM, "SNR");
   EXPECT(zdr_db, 40, RP_EDOM, "ZDR");
   EXPECT(zdr_db, INFINITY, RP_EINVAL, "ZDR");
   EXPECT(prt_s, 0, RP_EINVAL, "PRT");

@@ -35,7 +35,7 @@
 /* Largest number of pulses per gate accepted. */
 #define RP_IQ_MAX_PULSES 65536
 /* SNR accepted (dB): outside it the request is absurd (RP_EDOM). */
-#define RP_IQ_SNR_MIN_DB (-60.0)
+#define RP_IQ_SNR_MIN_DB (-100.0)
 #define RP_IQ_SNR_MAX_DB 120.0
 /* |Z_DR| accepted (dB). */
 #define RP_IQ_ZDR_MAX_DB 30.0
@@ -66,6 +66,10 @@ typedef struct {
 
 /* Nyquist velocity lambda / (4 T_s) in m/s (no checks: NaN for bad input). */
 double rp_iq_nyquist_m_s(double prt_s, double wavelength_mm);
+
+/* Velocity of periodogram bin k of M (frequency k/M cycles per pulse): 2 v_a k / M
+ * folded into [-v_a, v_a) (m/s; no checks). */
+double rp_iq_bin_velocity_m_s(const rp_iq_params *p, size_t k);
 
 /* Check p (and spec when not NULL) for synthesis. RP_OK, or RP_EINVAL for NULL, NaN or
  * infinite values, M < 2 or above RP_IQ_MAX_PULSES, width < 0, rho_hv outside [0, 1],

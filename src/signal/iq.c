@@ -79,6 +79,12 @@ double rp_iq_nyquist_m_s(double prt_s, double wavelength_mm) {
 
 static int bad(double x) { return !isfinite(x); }
 
+double rp_iq_bin_velocity_m_s(const rp_iq_params *p, size_t k) {
+  const double va = rp_iq_nyquist_m_s(p->prt_s, p->wavelength_mm);
+  const double f = (double)(k % p->n_pulses) / (double)p->n_pulses;  /* [0, 1) */
+  return 2 * va * (f >= 0.5 ? f - 1 : f);
+}
+
 rp_status rp_iq_params_check(const rp_iq_params *p, const rp_iq_spectrum *spec,
                              rp_error *err) {
   if (!p) return rp_error_set(err, RP_EINVAL, "I/Q parameters: NULL pointer");
