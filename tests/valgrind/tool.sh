@@ -31,5 +31,11 @@ run 0 presets
 run 0 curve --preset gentle-stratiform --vary d0 --from 0.5 --to 2 --steps 4 --band S --plot "$work/c.png"
 run 0 relate --band C --ensemble 300 --relations "R(KDP),AH(KDP)" --plot "$work/r.png" --csv "$work/r.csv"
 run 2 relate --relations "R(XYZ)"
+run 2 drop --diamter 3
+run 2 gate --preset maritime-downpour --band S,S
+run 0 gate --preset maritime-downpour --help
+run 0 cache list
+run 0 cache clear
+run 2 cache lst
 echo "$pass passed, $fail failed"
 [[ $fail -eq 0 ]]
