@@ -208,13 +208,17 @@ static void test_zero_width_is_a_coherent_line(void **state) {
 
 static void test_same_seed_same_samples_any_thread_count(void **state) {
   (void)state;
+  /* 1100 realisations: more than two of the ensemble's 512-realisation chunks */
   rp_iq_params p = base_params();
-  const size_t nreal = 300, m = p.n_pulses;
+  const size_t nreal = 1100, m = p.n_pulses;
   double complex *h1 = malloc(nreal * m * sizeof *h1), *v1 = malloc(nreal * m * sizeof *v1);
   double complex *h2 = malloc(nreal * m * sizeof *h2), *v2 = malloc(nreal * m * sizeof *v2);
+  double pg1[64], pg2[64];
+  rp_pulse_estimates *e1 = malloc(nreal * sizeof *e1), *e2 = malloc(nreal * sizeof *e2);
   rp_pulse_summary s1[RP_PULSE_N_KEYS], s2[RP_PULSE_N_KEYS];
   rp_pulse_ensemble_out o1 = {0}, o2 = {0};
-  o1.h = h1; o1.v = v1; o2.h = h2; o2.v = v2;
+  o1.h = h1; o1.v = v1; o1.mean_periodogram = pg1; o1.each = e1;
+  o2.h = h2; o2.v = v2; o2.mean_periodogram = pg2; o2.each = e2;
   rp_error err = {0};
   const int saved = omp_get_max_threads();
   omp_set_num_threads(1);
@@ -225,10 +229,12 @@ static void test_same_seed_same_samples_any_thread_count(void **state) {
   assert_memory_equal(h1, h2, nreal * m * sizeof *h1);
   assert_memory_equal(v1, v2, nreal * m * sizeof *v1);
   assert_memory_equal(s1, s2, sizeof s1);
+  assert_memory_equal(pg1, pg2, sizeof pg1);
+  assert_memory_equal(e1, e2, nreal * sizeof *e1);
   /* and a different seed gives different samples */
   assert_int_equal(rp_pulse_ensemble(&p, NULL, RP_WINDOW_HANN, nreal, 100, s2, &o2, &err), RP_OK);
   assert_true(memcmp(h1, h2, nreal * m * sizeof *h1) != 0);
-  free(h1); free(v1); free(h2); free(v2);
+  free(h1); free(v1); free(h2); free(v2); free(e1); free(e2);
 }
 
 static void test_parameter_errors_name_the_quantity(void **state) {

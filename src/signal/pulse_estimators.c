@@ -441,14 +441,19 @@ rp_status rp_pulse_ensemble(const rp_iq_params *p, const rp_iq_spectrum *spec,
     return rp_error_set(err, RP_EINVAL, "pulse ensemble: unknown window %d", (int)window);
   const size_t m = p->n_pulses, nr = n_realisations;
   const int want_pg = out && out->mean_periodogram;
+  /* periodograms are kept for one chunk of realisations at a time (bounded memory) and
+   * summed in realisation order after each chunk */
+  const size_t chunk = nr < 512 ? nr : 512;
   rp_pulse_estimates *est = malloc(nr * sizeof *est);
-  double *pgs = want_pg ? malloc(nr * m * sizeof *pgs) : NULL;
+  double *pgs = want_pg ? malloc(chunk * m * sizeof *pgs) : NULL;
   if (!est || (want_pg && !pgs)) {
     free(est);
     free(pgs);
     return rp_error_set(err, RP_ENOMEM, "pulse ensemble of %zu realisations: out of memory",
                         nr);
   }
+  if (want_pg)
+    for (size_t k = 0; k < m; k++) out->mean_periodogram[k] = 0;
   rp_status st = RP_OK;
   size_t fail_index = nr;
   rp_error fail_err = {RP_OK, ""};
@@ -458,18 +463,26 @@ rp_status rp_pulse_ensemble(const rp_iq_params *p, const rp_iq_spectrum *spec,
     rp_iq_workspace *ws = rp_iq_workspace_alloc(m, &lerr);
     rp_status lst = ws ? RP_OK : lerr.status;
     size_t lfail = ws ? nr : 0;
+    for (size_t c0 = 0; c0 < nr; c0 += chunk) {
+      const size_t c1 = nr - c0 < chunk ? nr : c0 + chunk;
 #pragma omp for schedule(dynamic, 16)
-    for (size_t j = 0; j < nr; j++) {
-      if (lst != RP_OK) continue;
-      rp_rng rng;
-      rp_rng_init(&rng, seed, rp_rng_key(RP_RNG_PULSES, 0, j, 0));
-      double complex *h = (out && out->h) ? out->h + j * m : ws->h;
-      double complex *v = (out && out->v) ? out->v + j * m : ws->v;
-      lst = rp_iq_synthesize(ws, p, spec, &rng, h, v, &lerr);
-      if (lst == RP_OK)
-        lst = rp_pulse_estimate(ws, p, h, v, window, &est[j], want_pg ? pgs + j * m : NULL,
-                                &lerr);
-      if (lst != RP_OK) lfail = j;
+      for (size_t j = c0; j < c1; j++) {
+        if (lst != RP_OK) continue;
+        rp_rng rng;
+        rp_rng_init(&rng, seed, rp_rng_key(RP_RNG_PULSES, 0, j, 0));
+        double complex *h = (out && out->h) ? out->h + j * m : ws->h;
+        double complex *v = (out && out->v) ? out->v + j * m : ws->v;
+        lst = rp_iq_synthesize(ws, p, spec, &rng, h, v, &lerr);
+        if (lst == RP_OK)
+          lst = rp_pulse_estimate(ws, p, h, v, window, &est[j],
+                                  want_pg ? pgs + (j - c0) * m : NULL, &lerr);
+        if (lst != RP_OK) lfail = j;
+      }
+      if (want_pg) {
+#pragma omp single
+        for (size_t k = 0; k < m; k++)
+          for (size_t j = c0; j < c1; j++) out->mean_periodogram[k] += pgs[(j - c0) * m + k];
+      }
     }
     if (lst != RP_OK) {
 #pragma omp critical(rp_pulse_ensemble_fail)
@@ -522,13 +535,8 @@ rp_status rp_pulse_ensemble(const rp_iq_params *p, const rp_iq_spectrum *spec,
     }
     o->sd = n > 1 ? sqrt(ss / (double)(n - 1)) : (double)NAN;
   }
-  if (want_pg) {
-    for (size_t k = 0; k < m; k++) {
-      double s = 0;
-      for (size_t j = 0; j < nr; j++) s += pgs[j * m + k];
-      out->mean_periodogram[k] = s / (double)nr;
-    }
-  }
+  if (want_pg)
+    for (size_t k = 0; k < m; k++) out->mean_periodogram[k] /= (double)nr;
   if (out && out->true_spectrum) rp_iq_true_spectrum(p, spec, out->true_spectrum);
   if (out && out->expected_periodogram)
     st = rp_pulse_expected_periodogram(p, spec, window, out->expected_periodogram, err);
