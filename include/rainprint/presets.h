@@ -18,6 +18,10 @@
  *                                        # "invented for the demo"
  * n0 is in m^-3 mm^-1 for the exponential and m^-3 mm^-(1+mu) for the gamma model.
  * Numbers must be plain decimals: nan, inf, hex and trailing text ("1.6mm") are refused.
+ * The values must lie within the DSD bounds of dsd.h (e.g. nw_m3_mm <= RP_DSD_NW_MAX).
+ * Text rules shared by every reader: one YAML document, UTF-8 (a byte-order mark is
+ * accepted), no NUL bytes, lines of at most 65536 bytes, a regular file of at most
+ * 64 MiB.
  *
  * The library takes the directory as a parameter; the tool finds the default one
  * (RP_SOURCE_DIR "/dsd-presets" or the RAINPRINT_PRESETS environment variable). */
@@ -42,6 +46,11 @@ typedef struct {
  * "path:line:column:" where the position is known, and names the field);
  * RP_ENOMEM. *out is unchanged on error. */
 rp_status rp_preset_load_file(const char *path, rp_preset *out, rp_error *err);
+
+/* rp_preset_load_file from n bytes in memory (name is used in messages). Same rules
+ * and statuses, without RP_EIO. */
+rp_status rp_preset_load_data(const char *name, const char *data, size_t n, rp_preset *out,
+                              rp_error *err);
 
 /* Read every *.yaml file in dir into a new array sorted by preset name; *n gets its
  * length. The caller frees the array with rp_preset_list_free().

@@ -8,7 +8,9 @@
  * The first field of a data row is a free label (an ISO 8601 time or any text without
  * commas; it may be empty). Numbers are plain decimals ("nan", "inf", hex and units are
  * refused). Bins: centres > 0 and strictly increasing, widths > 0, no overlap, lower
- * edges >= 0. Concentrations: finite and >= 0. */
+ * edges >= 0. Concentrations: finite, >= 0 and <= RP_DSD_CONC_MAX (dsd.h).
+ * Text rules shared by every reader: a regular file of at most 64 MiB, UTF-8 (a
+ * byte-order mark is accepted), no NUL bytes, lines of at most 65536 bytes. */
 #ifndef RAINPRINT_SPECTRUM_H
 #define RAINPRINT_SPECTRUM_H
 
@@ -29,9 +31,15 @@ typedef struct {
 /* Read a spectrum CSV file. On RP_OK *out is a new set that the caller frees with
  * rp_spectrum_free(); on error *out is NULL.
  * Returns RP_OK; RP_EINVAL (NULL path or out); RP_EIO (the file cannot be opened or
- * read); RP_EPARSE (malformed content: the message gives "path:line: column ...");
+ * read, or is not a regular file); RP_EPARSE (malformed content, a NUL byte, an
+ * over-long line or file: the message gives "path:line: column ...");
  * RP_ENOMEM. */
 rp_status rp_spectrum_load(const char *path, rp_spectrum_set **out, rp_error *err);
+
+/* rp_spectrum_load from n bytes in memory (name is used in messages); the same rules
+ * and statuses (no RP_EIO). data is not modified and need not be NUL-terminated. */
+rp_status rp_spectrum_load_data(const char *name, const char *data, size_t n,
+                                rp_spectrum_set **out, rp_error *err);
 
 /* Free a set from rp_spectrum_load (NULL is a no-op). */
 void rp_spectrum_free(rp_spectrum_set *s);

@@ -6,6 +6,7 @@
  * unknown keys are errors) with its log collected into the rp_error, then
  * rp_climate_validate checks ranges. */
 #include "rainprint/climate_file.h"
+#include "io/climate_data.h"
 
 #include <math.h>
 #include <stdbool.h>
@@ -126,6 +127,22 @@ static rp_status convert(const char *path, const yaml_climate *y, rp_climate *c,
     return RP_EPARSE;
   }
   return RP_OK;
+}
+
+rp_status rp_climate_load_yaml_data(const char *name, const char *data, size_t n,
+                                    rp_climate *c, rp_error *err) {
+  if (name == NULL || c == NULL || (data == NULL && n > 0))
+    return rp_error_set(err, RP_EINVAL, "climate: name, data or output is NULL");
+  yaml_climate *doc = NULL;
+  RP_TRY(rp_yaml_load_data(name, data, n, &climate_schema, numeric_keys,
+                           sizeof numeric_keys / sizeof numeric_keys[0],
+                           "a climate needs name, source and clusters", (cyaml_data_t **)&doc,
+                           err));
+  rp_climate tmp;
+  rp_status s = convert(name, doc, &tmp, err);
+  rp_yaml_free(&climate_schema, doc);
+  if (s == RP_OK) *c = tmp;
+  return s;
 }
 
 rp_status rp_climate_load_yaml(const char *path, rp_climate *c, rp_error *err) {

@@ -211,6 +211,20 @@ rp_status rp_preset_load_file(const char *path, rp_preset *out, rp_error *err) {
   return s;
 }
 
+rp_status rp_preset_load_data(const char *name, const char *data, size_t n, rp_preset *out,
+                              rp_error *err) {
+  if (name == NULL || out == NULL || (data == NULL && n > 0))
+    return rp_error_set(err, RP_EINVAL, "preset load: name, data or output is NULL");
+  preset_doc *doc = NULL;
+  RP_TRY(rp_yaml_load_data(name, data, n, &doc_schema, numeric_keys,
+                           sizeof numeric_keys / sizeof numeric_keys[0],
+                           "a preset needs name, description, model, parameters and source",
+                           (cyaml_data_t **)&doc, err));
+  rp_status s = build_preset(name, doc, out, err);
+  rp_yaml_free(&doc_schema, doc);
+  return s;
+}
+
 void rp_preset_list_free(rp_preset *list) { free(list); }
 
 static int cmp_str(const void *a, const void *b) {

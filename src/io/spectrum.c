@@ -1,6 +1,8 @@
 /* spectrum.c — reader of rainprint's drop-spectrum CSV format.
  *
- * Method: line-oriented parsing with getline(); each line is split on ',' in place,
+ * Method: the file is read whole under the shared text rules (text_rules.h: regular
+ * file, size cap, UTF-8 BOM skipped, NUL bytes and over-long lines refused with their
+ * position), then parsed line by line with getline() on the buffer; each line is split on ',' in place,
  * fields are trimmed of blanks, numbers must be complete plain decimals (checked
  * character by character before strtod by rp_decimal_parse, decimal.c, so "nan",
  * "inf", "0x10" and "1.2mm" are refused). Every error names the file, the line and the column (with the bin it
@@ -11,12 +13,14 @@
 #include "rainprint/spectrum.h"
 
 #include <errno.h>
+#include <stdint.h>
 #include <stdbool.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "decimal.h"
+#include "text_rules.h"
 
 static const char KEY_CENTER[] = "bin_center_mm";
 static const char KEY_WIDTH[] = "bin_width_mm";
@@ -201,6 +205,10 @@ static rp_status parse_row(const where *w, char *line, rp_spectrum_set *s, char 
     if (x < 0.0)
       return rp_error_set(w->err, RP_EPARSE, "%s:%zu: %s: concentration %g m^-3 mm^-1 must "
                           "be >= 0", w->path, w->line, column, x);
+    if (x > RP_DSD_CONC_MAX)
+      return rp_error_set(w->err, RP_EPARSE, "%s:%zu: %s: concentration %g m^-3 mm^-1 above "
+                          "%g m^-3 mm^-1 (RP_DSD_CONC_MAX)", w->path, w->line, column, x,
+                          RP_DSD_CONC_MAX);
     row[j] = x;
   }
   char *label = malloc(strlen(fields[0]) + 1);
@@ -210,13 +218,39 @@ static rp_status parse_row(const where *w, char *line, rp_spectrum_set *s, char 
   return RP_OK;
 }
 
+static rp_status parse_stream(const char *path, FILE *f, rp_spectrum_set **out, rp_error *err);
+
 rp_status rp_spectrum_load(const char *path, rp_spectrum_set **out, rp_error *err) {
   if (out == NULL) return rp_error_set(err, RP_EINVAL, "spectrum load: output is NULL");
   *out = NULL;
   if (path == NULL) return rp_error_set(err, RP_EINVAL, "spectrum load: path is NULL");
-  FILE *f = fopen(path, "r");
-  if (f == NULL)
-    return rp_error_set(err, RP_EIO, "%s: cannot open: %s", path, strerror(errno));
+  char *text = NULL;
+  size_t n = 0;
+  RP_TRY(rp_text_read_file(path, &text, &n, err));
+  rp_status s = rp_spectrum_load_data(path, text, n, out, err);
+  free(text);
+  return s;
+}
+
+rp_status rp_spectrum_load_data(const char *name, const char *data, size_t n,
+                                rp_spectrum_set **out, rp_error *err) {
+  if (out == NULL) return rp_error_set(err, RP_EINVAL, "spectrum load: output is NULL");
+  *out = NULL;
+  if (name == NULL || (data == NULL && n > 0))
+    return rp_error_set(err, RP_EINVAL, "spectrum load: name or data is NULL");
+  size_t body = 0;
+  RP_TRY(rp_text_check(name, data, n, &body, err));
+  if (n - body == 0)
+    return rp_error_set(err, RP_EPARSE, "%s: no '%s' line: the file is empty or only "
+                        "comments", name, KEY_CENTER);
+  FILE *f = fmemopen((void *)(uintptr_t)(data + body), n - body, "r");
+  if (f == NULL) return rp_error_set(err, RP_ENOMEM, "%s: out of memory", name);
+  rp_status s = parse_stream(name, f, out, err);
+  fclose(f);
+  return s;
+}
+
+static rp_status parse_stream(const char *path, FILE *f, rp_spectrum_set **out, rp_error *err) {
   rp_status s = RP_OK;
   char *buf = NULL, *line = NULL;
   char **fields = NULL;
@@ -276,7 +310,6 @@ rp_status rp_spectrum_load(const char *path, rp_spectrum_set **out, rp_error *er
 done:
   free(fields);
   free(buf);
-  fclose(f);
   if (s != RP_OK) {
     rp_spectrum_free(set);
     return s;

@@ -13,15 +13,22 @@
  * The log collector: libcyaml (1.3.1) writes one line per call, e.g.
  *   "Load: Invalid FLOAT value: fast\n", "Load: Backtrace:\n",
  *   "  in mapping field 'frequency_ghz' (line: 2, column: 16)\n";
- * the first position it gives is the innermost one, which is the one we keep. */
+ * the first position it gives is the innermost one, which is the one we keep.
+ *
+ * Files are read whole under the shared text rules (text_rules.h) and parsed from
+ * memory, so the scan and libcyaml see the same bytes; a second document is refused
+ * (libcyaml would silently load only the first). */
 #include "yaml_check.h"
 
 #include <errno.h>
+#include <stdint.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include <yaml.h>
 
 #include "decimal.h"
+#include "text_rules.h"
 
 /* ---- pre-scan ------------------------------------------------------------------------ */
 
@@ -93,14 +100,11 @@ static rp_status scan_scalar(const char *path, const scan_stack *st, const scan_
                       path, line, col, field, text);
 }
 
-rp_status rp_yaml_scan_numbers(const char *path, FILE *f, const char *const *numeric_keys,
-                               size_t n_keys, rp_error *err) {
-  if (path == NULL || f == NULL || (numeric_keys == NULL && n_keys > 0))
-    return rp_error_set(err, RP_EINVAL, "YAML number scan: path, file or key list is NULL");
-  yaml_parser_t parser;
-  if (!yaml_parser_initialize(&parser))
-    return rp_error_set(err, RP_ENOMEM, "%s: cannot initialise the YAML parser", path);
-  yaml_parser_set_input_file(&parser, f);
+/* The scan over an initialised parser (deleted here). */
+static rp_status scan_parser(const char *path, yaml_parser_t *pp,
+                             const char *const *numeric_keys, size_t n_keys, rp_error *err) {
+  yaml_parser_t parser = *pp;
+  size_t documents = 0;
   scan_stack st;
   memset(&st, 0, sizeof st);
   rp_status s = RP_OK;
@@ -148,6 +152,13 @@ rp_status rp_yaml_scan_numbers(const char *path, FILE *f, const char *const *num
         scan_value_start(&st);
         scan_value_done(&st);
         break;
+      case YAML_DOCUMENT_START_EVENT:
+        /* libcyaml loads the first document and ignores the rest: refuse them */
+        if (++documents > 1)
+          s = rp_error_set(err, RP_EPARSE, "%s:%zu:%zu: a second YAML document ('---'): a "
+                           "file holds one document", path, (size_t)ev.start_mark.line + 1,
+                           (size_t)ev.start_mark.column + 1);
+        break;
       case YAML_STREAM_END_EVENT:
         done = true;
         break;
@@ -158,6 +169,29 @@ rp_status rp_yaml_scan_numbers(const char *path, FILE *f, const char *const *num
   }
   yaml_parser_delete(&parser);
   return s;
+}
+
+rp_status rp_yaml_scan_numbers(const char *path, FILE *f, const char *const *numeric_keys,
+                               size_t n_keys, rp_error *err) {
+  if (path == NULL || f == NULL || (numeric_keys == NULL && n_keys > 0))
+    return rp_error_set(err, RP_EINVAL, "YAML number scan: path, file or key list is NULL");
+  yaml_parser_t parser;
+  if (!yaml_parser_initialize(&parser))
+    return rp_error_set(err, RP_ENOMEM, "%s: cannot initialise the YAML parser", path);
+  yaml_parser_set_input_file(&parser, f);
+  return scan_parser(path, &parser, numeric_keys, n_keys, err);
+}
+
+rp_status rp_yaml_scan_numbers_data(const char *path, const char *data, size_t n,
+                                    const char *const *numeric_keys, size_t n_keys,
+                                    rp_error *err) {
+  if (path == NULL || (data == NULL && n > 0) || (numeric_keys == NULL && n_keys > 0))
+    return rp_error_set(err, RP_EINVAL, "YAML number scan: path, data or key list is NULL");
+  yaml_parser_t parser;
+  if (!yaml_parser_initialize(&parser))
+    return rp_error_set(err, RP_ENOMEM, "%s: cannot initialise the YAML parser", path);
+  yaml_parser_set_input_string(&parser, (const unsigned char *)(data ? data : ""), n);
+  return scan_parser(path, &parser, numeric_keys, n_keys, err);
 }
 
 /* ---- libcyaml log collector ---------------------------------------------------------- */
@@ -205,27 +239,44 @@ static cyaml_config_t load_config(rp_yaml_log *lc) {
   return cfg;
 }
 
+rp_status rp_yaml_load_data(const char *path, const char *data, size_t n,
+                            const cyaml_schema_value_t *schema, const char *const *numeric_keys,
+                            size_t n_keys, const char *empty_hint, cyaml_data_t **doc,
+                            rp_error *err) {
+  if (doc) *doc = NULL;
+  if (path == NULL || (data == NULL && n > 0) || schema == NULL || empty_hint == NULL ||
+      doc == NULL)
+    return rp_error_set(err, RP_EINVAL, "YAML load: path, data, schema, hint or output is NULL");
+  size_t body = 0;
+  RP_TRY(rp_text_check(path, data, n, &body, err));
+  data += body;
+  n -= body;
+  RP_TRY(rp_yaml_scan_numbers_data(path, data, n, numeric_keys, n_keys, err));
+  if (n == 0) return rp_error_set(err, RP_EPARSE, "%s: empty file: %s", path, empty_hint);
+  rp_yaml_log lc;
+  memset(&lc, 0, sizeof lc);
+  const cyaml_config_t cfg = load_config(&lc);
+  cyaml_data_t *out = NULL;
+  cyaml_err_t ce = cyaml_load_data((const uint8_t *)data, n, &cfg, schema, &out, NULL);
+  if (ce != CYAML_OK) return rp_yaml_log_to_error(&lc, path, ce, err);
+  if (out == NULL) return rp_error_set(err, RP_EPARSE, "%s: empty file: %s", path, empty_hint);
+  *doc = out;
+  return RP_OK;
+}
+
 rp_status rp_yaml_load_file(const char *path, const cyaml_schema_value_t *schema,
                             const char *const *numeric_keys, size_t n_keys,
                             const char *empty_hint, cyaml_data_t **doc, rp_error *err) {
   if (doc) *doc = NULL;
   if (path == NULL || schema == NULL || empty_hint == NULL || doc == NULL)
     return rp_error_set(err, RP_EINVAL, "YAML load: path, schema, hint or output is NULL");
-  FILE *f = fopen(path, "rb");
-  if (f == NULL) return rp_error_set(err, RP_EIO, "%s: cannot open: %s", path, strerror(errno));
-  rp_status s = rp_yaml_scan_numbers(path, f, numeric_keys, n_keys, err);
-  fclose(f);
-  if (s != RP_OK) return s;
-
-  rp_yaml_log lc;
-  memset(&lc, 0, sizeof lc);
-  const cyaml_config_t cfg = load_config(&lc);
-  cyaml_data_t *out = NULL;
-  cyaml_err_t ce = cyaml_load_file(path, &cfg, schema, &out, NULL);
-  if (ce != CYAML_OK) return rp_yaml_log_to_error(&lc, path, ce, err);
-  if (out == NULL) return rp_error_set(err, RP_EPARSE, "%s: empty file: %s", path, empty_hint);
-  *doc = out;
-  return RP_OK;
+  char *text = NULL;
+  size_t n = 0;
+  RP_TRY(rp_text_read_file(path, &text, &n, err));
+  rp_status s = rp_yaml_load_data(path, text, n, schema, numeric_keys, n_keys, empty_hint, doc,
+                                  err);
+  free(text);
+  return s;
 }
 
 void rp_yaml_free(const cyaml_schema_value_t *schema, cyaml_data_t *doc) {

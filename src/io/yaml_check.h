@@ -22,7 +22,8 @@
 /* Scan the YAML stream f (opened by the caller, read to its end, not closed; path is
  * used in messages only). Every scalar that is the value of a mapping key listed in
  * numeric_keys[0..n_keys-1], at any depth, must be a plain decimal (see decimal.h)
- * whose value is a finite double.
+ * whose value is a finite double; the stream holds at most one document (a second
+ * "---" document is refused: "path:line:column: a second YAML document").
  * Returns RP_OK; RP_EPARSE for a YAML syntax error ("path:line:column: YAML syntax:
  * <libyaml's problem and context>") or a refused number ("path:line:column:
  * field.path[k].key: 'text' is not a plain decimal number" or "... is out of the range
@@ -31,6 +32,11 @@
  * with n_keys > 0. Only the first problem is reported. */
 rp_status rp_yaml_scan_numbers(const char *path, FILE *f, const char *const *numeric_keys,
                                size_t n_keys, rp_error *err);
+
+/* rp_yaml_scan_numbers on n bytes of memory (need not be NUL-terminated). */
+rp_status rp_yaml_scan_numbers_data(const char *path, const char *data, size_t n,
+                                    const char *const *numeric_keys, size_t n_keys,
+                                    rp_error *err);
 
 /* What rp_yaml_log_fn gathered: libcyaml's ERROR lines joined with "; " (without the
  * "Load: " prefix, the "Backtrace:" line and the "(line: N, column: M)" positions), and
@@ -53,7 +59,17 @@ void rp_yaml_log_fn(cyaml_log_t level, void *ctx, const char *fmt, va_list args)
 rp_status rp_yaml_log_to_error(const rp_yaml_log *log, const char *path, cyaml_err_t ce,
                                rp_error *err);
 
-/* Open path, rp_yaml_scan_numbers() it, then load it with libcyaml against schema
+/* rp_yaml_load_file on n bytes in memory (path names them in messages): the text
+ * rules (text_rules.h), the scan, then libcyaml's cyaml_load_data. Same statuses but
+ * RP_EIO. This is the entry point of the fuzz targets and of loaders that hold text. */
+rp_status rp_yaml_load_data(const char *path, const char *data, size_t n,
+                            const cyaml_schema_value_t *schema, const char *const *numeric_keys,
+                            size_t n_keys, const char *empty_hint, cyaml_data_t **doc,
+                            rp_error *err);
+
+/* Read path under the shared text rules (text_rules.h: regular file, size cap, UTF-8
+ * BOM accepted, NUL bytes and over-long lines refused), rp_yaml_scan_numbers() it (one
+ * document only), then load it with libcyaml against schema
  * (CYAML_CFG_DEFAULT: unknown keys are errors), its log collected as above.
  * libcyaml loads an empty stream as a NULL document without an error; that is refused
  * here as RP_EPARSE "path: empty file: <empty_hint>" (empty_hint says what the document
@@ -61,8 +77,9 @@ rp_status rp_yaml_log_to_error(const rp_yaml_log *log, const char *path, cyaml_e
  * On RP_OK, *doc holds the loaded document (never NULL); the caller owns it and
  * releases it with rp_yaml_free(schema, *doc). On error *doc is NULL.
  * Returns RP_OK; RP_EINVAL for a NULL path, schema, empty_hint or doc; RP_EIO when the
- * file cannot be opened ("path: cannot open: <strerror>"); RP_EPARSE and RP_ENOMEM as
- * from rp_yaml_scan_numbers() and rp_yaml_log_to_error(), and for the empty file. */
+ * file cannot be opened ("path: cannot open: <strerror>") or is not a regular file;
+ * RP_EPARSE and RP_ENOMEM as from rp_text_check(), rp_yaml_scan_numbers() and
+ * rp_yaml_log_to_error(), and for the empty file. */
 rp_status rp_yaml_load_file(const char *path, const cyaml_schema_value_t *schema,
                             const char *const *numeric_keys, size_t n_keys,
                             const char *empty_hint, cyaml_data_t **doc, rp_error *err);
