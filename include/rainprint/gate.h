@@ -45,8 +45,9 @@ typedef struct {
   double kdp_deg_km, ah_db_km, adp_db_km;
 } rp_gate_linear;
 
-/* Gauss–Legendre nodes per table interval used by rp_gate_plan_alloc (the count is
- * justified in tests/test_gate.c against a rule with 4x as many nodes). */
+/* Gauss–Legendre nodes per quadrature interval (a table interval inside one smooth
+ * piece, see rp_gate_plan) used by rp_gate_plan_alloc (the count is justified in
+ * tests/test_gate.c against a rule with 4x as many nodes). */
 #define RP_GATE_NODES_PER_INTERVAL 4
 /* Largest node count per interval accepted by rp_gate_plan_alloc_nodes. */
 #define RP_GATE_NODES_PER_INTERVAL_MAX 32
