@@ -300,13 +300,13 @@ static const char *const dsd_model_names[] = {"exponential", "marshall-palmer", 
 const rp_opts_spec rp_cli_dsd_opts[] = {
     RP_OPTS_STRING_ROW("preset", "NAME", "a named rain (rainprint presets lists them)"),
     RP_OPTS_ENUM_ROW("dsd", "MODEL",
-                     "an analytic DSD: exponential (--n0, --lambda), marshall-palmer "
-                     "(--rain-rate), gamma (--n0, --mu, --lambda) or normalized-gamma (--nw, "
-                     "--mu, and --d0 or --dm)", dsd_model_names, NULL),
+                     "an analytic DSD (exponential takes --n0 and --lambda, marshall-palmer "
+                     "--rain-rate, gamma --n0, --mu and --lambda, normalized-gamma --nw, --mu "
+                     "and --d0 or --dm)", dsd_model_names, NULL),
     RP_OPTS_STRING_ROW("spectrum", "FILE.csv",
                        "a measured spectrum (spectrum CSV format, docs/guide.md)"),
-    RP_OPTS_LONG_ROW("row", "N", "the data row of --spectrum to use, counted from 1", 1.0, 1e9,
-                     RP_OPTS_RANGED, "1"),
+    RP_OPTS_LONG_ROW("row", "N", "the data row of --spectrum to use, counted from 1", 1.0, 0,
+                     RP_OPTS_RANGED | RP_OPTS_NO_HI, "1"),
     RP_OPTS_DOUBLE_ROW("n0", "X", "intercept N0 (m^-3 mm^-1-mu)", 0, 0, 0, NULL),
     RP_OPTS_DOUBLE_ROW("lambda", "X", "slope Lambda (mm^-1)", 0, 0, 0, NULL),
     RP_OPTS_DOUBLE_ROW("mu", "X", "shape parameter mu", RP_DSD_MU_MIN, RP_DSD_MU_MAX,

@@ -37,8 +37,8 @@ static const rp_opts_spec relate_source_opts[] = {
                         RP_CLIMATE_DEFAULT),
     RP_OPTS_STRING_ROW("climate-file", "F.yaml",
                        "a climate of your own (examples: dsd-presets/climates/)"),
-    RP_OPTS_LONG_ROW("seed", "N", "seed of the draw (stored in the output)", 0, 2147483647.0,
-                     RP_OPTS_RANGED, "1"),
+    RP_OPTS_LONG_ROW("seed", "N", "seed of the draw (stored in the output)", 0, 0,
+                     RP_OPTS_RANGED | RP_OPTS_NO_HI, "1"),
     RP_OPTS_STRING_ROW("spectra", "FILE.csv",
                        "measured spectra instead, one DSD per row (spectrum CSV format)"),
     RP_OPTS_DOUBLE_ROW("max-diameter", "MM",
@@ -46,9 +46,9 @@ static const rp_opts_spec relate_source_opts[] = {
                        "8 mm", 0.0, RP_TABLE_DMAX_DEFAULT_MM, RP_OPTS_RANGED | RP_OPTS_LO_OPEN,
                        RP_XSTR(RP_RELATE_DMAX_DEFAULT_MM)),
     RP_OPTS_DOUBLE_ROW("min-nt", "M3", "--spectra filter: minimum total concentration Nt, m^-3",
-                       0.0, 1e12, RP_OPTS_RANGED, RP_XSTR(RP_RELATE_NT_MIN_DEFAULT)),
-    RP_OPTS_DOUBLE_ROW("min-rain-rate", "MM_H", "--spectra filter: minimum rain rate", 0.0, 1e4,
-                       RP_OPTS_RANGED, RP_XSTR(RP_RELATE_RAIN_MIN_DEFAULT)),
+                       0.0, 0, RP_OPTS_RANGED | RP_OPTS_NO_HI, RP_XSTR(RP_RELATE_NT_MIN_DEFAULT)),
+    RP_OPTS_DOUBLE_ROW("min-rain-rate", "MM_H", "--spectra filter: minimum rain rate", 0.0, 0,
+                       RP_OPTS_RANGED | RP_OPTS_NO_HI, RP_XSTR(RP_RELATE_RAIN_MIN_DEFAULT)),
     RP_OPTS_END};
 
 static const rp_opts_spec relate_fit_opts[] = {

@@ -7,6 +7,7 @@
 #include <gsl/gsl_errno.h>
 
 #include "cli/cli.h"
+#include "rainprint/names.h"
 #include "rainprint/version.h"
 
 static const rp_cli_command commands[] = {
@@ -68,6 +69,13 @@ int main(int argc, char **argv) {
       return check_stdout(argv[1], rc);
     }
   }
-  fprintf(stderr, "rainprint: unknown command '%s' (see rainprint --help)\n", argv[1]);
+  const char *names[N_COMMANDS];
+  for (size_t i = 0; i < N_COMMANDS; i++) names[i] = commands[i].name;
+  const char *hint = rp_names_suggest(names, N_COMMANDS, argv[1]);
+  if (hint != NULL)
+    fprintf(stderr, "rainprint: unknown command '%s' (did you mean '%s'?)\n", argv[1], hint);
+  else
+    fprintf(stderr, "rainprint: unknown command '%s' (rainprint --help lists the commands)\n",
+            argv[1]);
   return RP_EXIT_USAGE;
 }

@@ -53,6 +53,10 @@ void rp_opts_range_text(const rp_opts_spec *s, char *buf, size_t n) {
   char lo[32], hi[32];
   fmt_num(s->lo, lo, sizeof lo);
   fmt_num(s->hi, hi, sizeof hi);
+  if (s->flags & RP_OPTS_NO_HI) {
+    snprintf(buf, n, "%s %s", (s->flags & RP_OPTS_LO_OPEN) ? "above" : "at least", lo);
+    return;
+  }
   snprintf(buf, n, "%c%s, %s%c", (s->flags & RP_OPTS_LO_OPEN) ? '(' : '[', lo, hi,
            (s->flags & RP_OPTS_HI_OPEN) ? ')' : ']');
 }
@@ -60,13 +64,14 @@ void rp_opts_range_text(const rp_opts_spec *s, char *buf, size_t n) {
 int rp_opts_in_range(const rp_opts_spec *s, double x) {
   if (!(s->flags & RP_OPTS_RANGED)) return 1;
   const int lo_ok = (s->flags & RP_OPTS_LO_OPEN) ? x > s->lo : x >= s->lo;
-  const int hi_ok = (s->flags & RP_OPTS_HI_OPEN) ? x < s->hi : x <= s->hi;
+  const int hi_ok = (s->flags & RP_OPTS_NO_HI) || ((s->flags & RP_OPTS_HI_OPEN) ? x < s->hi : x <= s->hi);
   return lo_ok && hi_ok;
 }
 
 static int out_of_range(const rp_opts_command *c, const rp_opts_spec *s, const char *text) {
   char r[80];
   rp_opts_range_text(s, r, sizeof r);
+  if (s->flags & RP_OPTS_NO_HI) return fail(c, "--%s %s: the value must be %s", s->name, text, r);
   return fail(c, "--%s %s is outside the allowed range %s", s->name, text, r);
 }
 
@@ -268,7 +273,8 @@ static void help_line(FILE *out, const rp_opts_spec *s) {
   size_t k = (size_t)snprintf(text, sizeof text, "%s", s->help ? s->help : "");
   char r[80];
   rp_opts_range_text(s, r, sizeof r);
-  if (r[0] && k < sizeof text) k += (size_t)snprintf(text + k, sizeof text - k, "; allowed %s", r);
+  if (r[0] && k < sizeof text) k += (size_t)snprintf(text + k, sizeof text - k, "; %s%s",
+                          (s->flags & RP_OPTS_NO_HI) ? "" : "allowed ", r);
   const char *const *names = s->names;
   size_t n_names = s->n_names;
   if (names == NULL && s->names_fn != NULL) names = s->names_fn(&n_names);

@@ -35,6 +35,7 @@ typedef enum {
 #define RP_OPTS_LO_OPEN 0x2u /* lo itself is not allowed: (lo, ... */
 #define RP_OPTS_HI_OPEN 0x4u /* hi itself is not allowed: ..., hi) */
 #define RP_OPTS_REPEAT 0x8u  /* may be given more than once (the last value counts) */
+#define RP_OPTS_NO_HI 0x10u  /* with RP_OPTS_RANGED: only lo applies ("at least lo") */
 
 /* Turns an enum/list item into a value, or fails with a message naming the valid values
  * (e.g. a wrapper of rp_shape_from_name). */

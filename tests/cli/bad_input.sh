@@ -66,7 +66,7 @@ bad_case "exactly one of --d0 and --dm" "$rp" gate --dsd normalized-gamma --nw 8
 bad_case "unknown --dsd value 'lognormal'" "$rp" gate --dsd lognormal
 bad_case "--mu 20 is outside the allowed range [-2, 15]" "$rp" gate --dsd gamma --n0 8000 --mu 20 --lambda 3
 bad_case "--row needs --spectrum" "$rp" gate "${mp[@]}" --row 2
-bad_case "--row 0 is outside the allowed range" "$rp" gate --spectrum "$spectra/good.csv" --row 0
+bad_case "--row 0: the value must be at least 1" "$rp" gate --spectrum "$spectra/good.csv" --row 0
 bad_case "--row 999 but the file has" "$rp" gate --spectrum "$spectra/good.csv" --row 999
 bad_case "--dmax 12 is outside the allowed range (0, 10]" "$rp" gate "${mp[@]}" --dmax 12
 bad_case "--dmin/--dmax" "$rp" gate "${mp[@]}" --dmin 3 --dmax 2
@@ -135,7 +135,7 @@ bad_case "--ensemble 20 is outside the allowed range [50, 2000000]" "$rp" relate
 bad_case "give either --spectra or --ensemble, not both" "$rp" relate --spectra "$spectra/good.csv" --ensemble 100
 bad_case "--seed is for an ensemble" "$rp" relate --spectra "$spectra/good.csv" --seed 3
 bad_case "--min-nt needs --spectra" "$rp" relate --min-nt 5
-bad_case "--seed -1 is outside the allowed range" "$rp" relate --seed -1
+bad_case "--seed -1: the value must be at least 0" "$rp" relate --seed -1
 bad_case "unknown climate 'tropical'" "$rp" relate --climate tropical
 bad_case "give either --climate or --climate-file, not both" "$rp" relate --climate maritime --climate-file "$work/c.yaml"
 bad_case "--relations: unknown relation 'R(XYZ)'" "$rp" relate --relations "R(XYZ)"
