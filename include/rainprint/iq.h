@@ -99,6 +99,29 @@ rp_status rp_iq_synthesize(rp_iq_workspace *ws, const rp_iq_params *p,
                            const rp_iq_spectrum *spec, rp_rng *rng, double complex *h,
                            double complex *v, rp_error *err);
 
+/* Staggered PRT (optional mode): the gaps between pulses alternate T1 = p->prt_s and
+ * T2 = T1 k2 / k1 (integers 1 <= k1 < k2 <= 16, e.g. k1 = 2, k2 = 3 for T1/T2 = 2/3),
+ * starting with T1: pulse m is at t_m = T_u (j (k1 + k2) + (m odd ? k1 : 0)), m = 2j or
+ * 2j + 1, with T_u = T1 / k1. */
+typedef struct {
+  unsigned k1, k2;
+} rp_iq_stagger;
+
+/* Time of pulse m (s) and the number of base steps T_u the M pulses span plus one (the
+ * workspace's max_pulses must be at least this). No checks. */
+double rp_iq_stagger_time_s(const rp_iq_params *p, rp_iq_stagger st, size_t m);
+size_t rp_iq_stagger_span(const rp_iq_params *p, rp_iq_stagger st);
+
+/* Synthesise M staggered pulses into h[], v[]: a uniform series at T_u (rp_iq_synthesize
+ * with PRT T_u over the span) sampled at the pulse times, so every property of the
+ * uniform synthesis carries over. p is checked at PRT T1 (width <= v_a(T1)). Statuses:
+ * those of rp_iq_synthesize; RP_EINVAL for a bad stagger or a span above the
+ * workspace's max_pulses. */
+rp_status rp_iq_synthesize_staggered(rp_iq_workspace *ws, const rp_iq_params *p,
+                                     const rp_iq_spectrum *spec, rp_iq_stagger st,
+                                     rp_rng *rng, double complex *h, double complex *v,
+                                     rp_error *err);
+
 /* The normalised signal autocorrelation r(k) = E[s*(m) s(m+k)] / E|s|^2 of the model
  * spectrum at lag k pulses (complex; r(0) = 1): for each component
  * exp(2 pi i f k - 2 pi^2 sigma^2 k^2), f = v / (2 v_a), sigma = w / (2 v_a), weighted.

@@ -77,6 +77,18 @@ rp_status rp_pulse_gate(rp_iq_workspace *ws, const rp_iq_params *p,
                         rp_pulse_estimates *out, double complex *h_out,
                         double complex *v_out, rp_error *err);
 
+/* Velocities from staggered-PRT samples of H (rp_iq_synthesize_staggered): v_t1 =
+ * (lambda/(4 pi T1)) arg R(T1) and v_t2 = (lambda/(4 pi T2)) arg R(T2), R(T) averaged
+ * over the pulse pairs with gap T, folded at v_a(T1), v_a(T2); and v_ext, dealiased within
+ * (-v_ext, v_ext], v_ext = lambda / (4 (T2 - T1)): the difference estimate
+ * (lambda/(4 pi (T2 - T1))) arg(R(T2) R(T1)*) picks the alias v_t1 + 2 n v_a(T1) nearest
+ * to it (Zrnić & Mahapatra 1985, IEEE Trans. Aerosp. Electron. Syst. 21, 470-483; from
+ * memory). Needs M >= 3. Any output pointer may be NULL. Statuses: RP_EINVAL for a NULL
+ * p or h, M < 3, a bad stagger or invalid p. */
+rp_status rp_pulse_staggered_velocity(const rp_iq_params *p, rp_iq_stagger st,
+                                      const double complex *h, double *v_t1, double *v_t2,
+                                      double *v_ext, rp_error *err);
+
 /* The true values the estimators target: power 10^(SNR/10), zh_dbz, the spectrum's
  * moments (rp_iq_spectrum_moments) for the velocities and widths, zdr_db, rhohv and
  * phidp_deg (wrapped into (-180, 180]). p, spec assumed valid. */

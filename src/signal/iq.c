@@ -511,6 +511,47 @@ rp_status rp_iq_synthesize(rp_iq_workspace *ws, const rp_iq_params *p,
   return RP_OK;
 }
 
+/* ---- staggered PRT ------------------------------------------------------------------ */
+
+static size_t stagger_index(rp_iq_stagger st, size_t m) {
+  return (m / 2) * (size_t)(st.k1 + st.k2) + ((m & 1) ? st.k1 : 0);
+}
+
+double rp_iq_stagger_time_s(const rp_iq_params *p, rp_iq_stagger st, size_t m) {
+  return p->prt_s / (double)st.k1 * (double)stagger_index(st, m);
+}
+
+size_t rp_iq_stagger_span(const rp_iq_params *p, rp_iq_stagger st) {
+  return stagger_index(st, p->n_pulses - 1) + 1;
+}
+
+rp_status rp_iq_synthesize_staggered(rp_iq_workspace *ws, const rp_iq_params *p,
+                                     const rp_iq_spectrum *spec, rp_iq_stagger st,
+                                     rp_rng *rng, double complex *h, double complex *v,
+                                     rp_error *err) {
+  if (!ws || !rng || !h || !v)
+    return rp_error_set(err, RP_EINVAL, "staggered I/Q synthesis: NULL pointer");
+  if (st.k1 < 1 || st.k2 <= st.k1 || st.k2 > 16)
+    return rp_error_set(err, RP_EINVAL, "staggered PRT ratio %u/%u: need 1 <= k1 < k2 <= 16",
+                        st.k1, st.k2);
+  RP_TRY(rp_iq_params_check(p, spec, err));
+  const size_t span = rp_iq_stagger_span(p, st);
+  if (span > ws->max_pulses)
+    return rp_error_set(err, RP_EINVAL, "staggered PRT: %zu pulses at %u/%u span %zu base "
+                        "steps, more than the workspace's %zu", p->n_pulses, st.k1, st.k2,
+                        span, ws->max_pulses);
+  rp_iq_params q = *p;
+  q.prt_s = p->prt_s / (double)st.k1;
+  q.n_pulses = span;
+  RP_TRY(rp_iq_synthesize(ws, &q, spec, rng, ws->h, ws->v, err));
+  for (size_t m = 0; m < p->n_pulses; m++) {
+    const size_t i = stagger_index(st, m);
+    h[m] = ws->h[i];
+    v[m] = ws->v[i];
+  }
+  return RP_OK;
+}
+
 /* ---- DSD spectrum ------------------------------------------------------------------- */
 
 rp_status rp_iq_dsd_spectrum(const rp_table *t, const rp_dsd *dsd, double elevation_deg,

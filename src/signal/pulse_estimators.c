@@ -225,6 +225,40 @@ rp_status rp_pulse_gate(rp_iq_workspace *ws, const rp_iq_params *p,
   return rp_pulse_estimate(ws, p, h, v, window, out, NULL, err);
 }
 
+rp_status rp_pulse_staggered_velocity(const rp_iq_params *p, rp_iq_stagger st,
+                                      const double complex *h, double *v_t1, double *v_t2,
+                                      double *v_ext, rp_error *err) {
+  if (!p || !h) return rp_error_set(err, RP_EINVAL, "staggered velocity: NULL pointer");
+  RP_TRY(check_estimator_params(p, err));
+  if (p->n_pulses < 3)
+    return rp_error_set(err, RP_EINVAL, "staggered velocity: M = %zu pulses, need >= 3",
+                        p->n_pulses);
+  if (st.k1 < 1 || st.k2 <= st.k1 || st.k2 > 16)
+    return rp_error_set(err, RP_EINVAL, "staggered PRT ratio %u/%u: need 1 <= k1 < k2 <= 16",
+                        st.k1, st.k2);
+  const size_t m = p->n_pulses;
+  double complex r1 = 0, r2 = 0;   /* gaps T1 (m even -> m + 1) and T2 (m odd -> m + 1) */
+  for (size_t k = 0; k + 1 < m; k++) {
+    if (k & 1)
+      r2 += conj(h[k]) * h[k + 1];
+    else
+      r1 += conj(h[k]) * h[k + 1];
+  }
+  const double t1 = p->prt_s, t2 = p->prt_s * (double)st.k2 / (double)st.k1;
+  const double lam = 1e-3 * p->wavelength_mm;
+  const double va1 = lam / (4 * t1);
+  const double a1 = lam / (4 * M_PI * t1) * carg(r1);
+  const double a2 = lam / (4 * M_PI * t2) * carg(r2);
+  const double vd = lam / (4 * M_PI * (t2 - t1)) * carg(r2 * conj(r1));
+  const double vext = lam / (4 * (t2 - t1));
+  const double n = round((vd - a1) / (2 * va1));
+  double ve = wrap_sym(a1 + 2 * va1 * n, vext);
+  if (v_t1) *v_t1 = a1;
+  if (v_t2) *v_t2 = a2;
+  if (v_ext) *v_ext = ve;
+  return RP_OK;
+}
+
 void rp_pulse_truth(const rp_iq_params *p, const rp_iq_spectrum *spec,
                     rp_pulse_estimates *truth) {
   double mean, width;
