@@ -47,3 +47,12 @@ if(RP_VALGRIND AND NOT RP_SANITIZE)
                    ${CMAKE_BINARY_DIR})
   set_tests_properties(valgrind_tool PROPERTIES ENVIRONMENT "${RP_TEST_ENV}")
 endif()
+
+# Installed like a package (tests/install/install.sh): a copy of the tree built without
+# tests, installed into a temporary prefix and used from outside (normal build only: the
+# installed tool is not a sanitizer build).
+if(NOT RP_SANITIZE)
+  add_test(NAME install COMMAND bash ${CMAKE_SOURCE_DIR}/tests/install/install.sh
+                                ${CMAKE_SOURCE_DIR})
+  set_tests_properties(install PROPERTIES TIMEOUT 600)
+endif()
