@@ -90,43 +90,56 @@ void rp_volume_noise_std(int pulses, double prt_s, double wavelength_m, double w
   const double m = (double)pulses;
   const double va = wavelength_m / (4.0 * prt_s);
   const double svn = width_ms / (2.0 * va); /* normalised spectrum width */
-  /* S = sum_{|l|<M} (1 - |l|/M) rho_l^2, rho_l = exp(-2 pi^2 svn^2 l^2) (Gaussian
-   * spectrum, Doviak & Zrnić 1993 §6.3, from memory); M / S independent samples. */
-  const double q = exp(-4.0 * M_PI * M_PI * svn * svn); /* rho_1^2 */
-  double s = 1.0, qpow = q, term = q; /* term = q^(l^2) by q^(2l+1) steps */
+  /* Gaussian spectrum: signal correlation rho_l = exp(-2 pi^2 svn^2 l^2) at lag l
+   * (Doviak & Zrnić 1993 §6.3, from memory). rho_l is built by the recursion
+   * rho_{l+1} = rho_l e^{-a (2l + 1)}, a = 2 pi^2 svn^2; the sums stop when the terms fall
+   * below 1e-15 of the leading one. */
+  const double a = 2.0 * M_PI * M_PI * svn * svn;
+  const double inv = 1.0 / snr;
+  /* S = sum_{|l|<M} (1 - |l|/M) rho_l^2, and the pulse-pair sum
+   * T = sum_{|l|<N} (N - |l|) (R_l^2 - R_{l+1} R_{l-1}), N = M - 1, R_l = rho_l + delta_l/SNR */
+  const double n1 = m - 1.0;
+  double s = 1.0;
+  const double r0 = 1.0 + inv;
+  double rho_prev = 1.0, rho = exp(-a), step = exp(-3.0 * a); /* rho_0, rho_1, e^{-3a} */
+  const double rho1 = rho;
+  double t = n1 * (r0 * r0 - rho1 * rho1); /* l = 0 */
   for (int l = 1; l < pulses; l++) {
-    s += 2.0 * (1.0 - l / m) * term;
-    if (term < 1e-12) break;
-    qpow *= q * q;
-    term *= qpow;
+    const double rho_next = rho * step;       /* rho_{l+1} */
+    const double rl_m1 = l == 1 ? r0 : rho_prev; /* R_{l-1} */
+    s += 2.0 * (1.0 - l / m) * rho * rho;
+    if ((double)l < n1) t += 2.0 * (n1 - l) * (rho * rho - rho_next * rl_m1);
+    if (rho * rho < 1e-15 && rho_next * rl_m1 < 1e-15) break;
+    rho_prev = rho;
+    rho = rho_next;
+    step *= exp(-2.0 * a);
   }
   const double mi = m / s;
   out->independent_samples = mi;
-  const double inv = 1.0 / snr;
   const double ten_log10e = 10.0 / log(10.0);
-  /* power: var(P)/S^2 = S/M^2 + (2/SNR + 1/SNR^2)/M */
-  const double var_p = s / (m * m) + (2.0 * inv + inv * inv) / m;
+  /* power with the noise subtracted: var(P)/S^2 = [S + 2/SNR + 1/SNR^2] / M */
+  const double var_p = (s + 2.0 * inv + inv * inv) / m;
   out->dbz = ten_log10e * sqrt(var_p);
-  /* ZDR (Bringi & Chandrasekar 2001 §6.5, from memory): var = 2(1 - rho^2)/M_I plus the
+  /* ZDR (Bringi & Chandrasekar 2001 §6.5, from memory): 2 (1 - rho^2)/M_I plus the
    * noise terms of both channels */
-  const double rho = rhohv > 1.0 ? 1.0 : rhohv;
-  const double var_zdr = 2.0 * (1.0 - rho * rho) / mi + 2.0 * (2.0 * inv + inv * inv) / m;
+  const double rho_hv = rhohv > 1.0 ? 1.0 : rhohv;
+  const double var_zdr = 2.0 * (1.0 - rho_hv * rho_hv) / mi + 2.0 * (2.0 * inv + inv * inv) / m;
   out->zdr_db = ten_log10e * sqrt(var_zdr);
-  /* PhiDP: var(arg R_hv) = (1 - rho^2) / (2 M_I rho^2) + noise (1/SNR_h + 1/SNR_v)/(2 M rho^2) */
-  const double var_phi = (1.0 - rho * rho) / (2.0 * mi * rho * rho) + (2.0 * inv) / (2.0 * m * rho * rho);
+  /* PhiDP: (1 - rho^2)/(2 M_I rho^2) (B&C 2001 §6.5, from memory) plus the white-noise
+   * term (2/SNR + 1/SNR^2)/(2 M rho^2) */
+  const double var_phi = (1.0 - rho_hv * rho_hv) / (2.0 * mi * rho_hv * rho_hv) +
+                         (2.0 * inv + inv * inv) / (2.0 * m * rho_hv * rho_hv);
   out->phidp_deg = sqrt(var_phi) / DEG;
-  /* rhohv: var = (1 - rho^2)^2 / (2 M_I) (B&C 2001 §6.5, from memory) */
-  out->rhohv = (1.0 - rho * rho) / sqrt(2.0 * mi) + inv / sqrt(m);
-  /* velocity, pulse pair: lambda sigma_v / (8 M T_s sqrt(pi)) (Gaussian spectrum, high
-   * SNR, D&Z 1993 eq. 6.22c form, from memory) plus the white-noise term of
-   * independent pairs lambda^2 (2/SNR + 1/SNR^2) / (32 pi^2 M T_s^2 rho_1^2) */
-  const double rho1sq = q;
-  double var_v = wavelength_m * width_ms / (8.0 * m * prt_s * sqrt(M_PI)) +
-                 wavelength_m * wavelength_m * (2.0 * inv + inv * inv) /
-                     (32.0 * M_PI * M_PI * m * prt_s * prt_s * (rho1sq > 1e-6 ? rho1sq : 1e-6));
+  /* rhohv: (1 - rho^2)/sqrt(2 M_I) (B&C 2001 §6.5, from memory); noise term ours */
+  out->rhohv = (1.0 - rho_hv * rho_hv) / sqrt(2.0 * mi) + inv / sqrt(m);
+  /* velocity, pulse pair: var(arg R1) = T / (2 R_1^2 N^2), the perturbation result for
+   * correlated Gaussian samples in white noise (Zrnić 1977; D&Z 1993 §6.4, from memory),
+   * v = -(lambda / (4 pi T_s)) arg R1 */
+  const double var_arg = t / (2.0 * rho1 * rho1 * n1 * n1);
+  double var_v = var_arg * pow(wavelength_m / (4.0 * M_PI * prt_s), 2.0);
   /* an estimate cannot spread more than uniform over the Nyquist interval */
   const double var_max = va * va / 3.0;
-  if (var_v > var_max) var_v = var_max;
+  if (!(var_v < var_max)) var_v = var_max;
   out->vel_ms = sqrt(var_v);
   /* width: our own approximation, sigma/sigma_v = (1 + 1/SNR) / sqrt(2 M_I) */
   out->width_ms = width_ms * (1.0 + inv) / sqrt(2.0 * mi);
