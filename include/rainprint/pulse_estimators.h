@@ -61,9 +61,12 @@ typedef enum { RP_WINDOW_RECT, RP_WINDOW_HANN } rp_pulse_window;
  * M, T_s, lambda, the SNR and zh_dbz used for calibration). periodogram (NULL or M
  * values) receives the windowed H periodogram |sum w h e^{-2 pi i k m/M}|^2 / sum w^2
  * on bins k = 0..M-1 (frequency k/M; velocity 2 v_a k/M folded), noise floor 1.
- * Uses ws's buffers; no allocation except the first time a workspace meets a new M
- * (FFTW plan and window, kept). Statuses: RP_EINVAL for NULL pointers, M above the
- * workspace's size or an invalid p (rp_iq_params_check); RP_EFFTW if no plan. */
+ * Uses ws's buffers; no allocation except when a workspace meets an M different from
+ * the previous call's (it keeps one forward plan and window: alternating M per gate
+ * re-plans every time, so keep M constant per workspace). Statuses: RP_EINVAL for NULL
+ * pointers, an unknown window, M above the workspace's size, or invalid M, T_s, lambda,
+ * SNR or zh_dbz (checked as by rp_iq_params_check; the spectrum fields are unused);
+ * RP_EFFTW if no plan. */
 rp_status rp_pulse_estimate(rp_iq_workspace *ws, const rp_iq_params *p,
                             const double complex *h, const double complex *v,
                             rp_pulse_window window, rp_pulse_estimates *out,
