@@ -4,7 +4,6 @@
 #ifndef RP_CLI_H
 #define RP_CLI_H
 
-#include <getopt.h>
 #include <jansson.h>
 #include <stdio.h>
 
@@ -29,37 +28,8 @@ int rp_cli_fail(const char *cmd, rp_status s, const char *fmt, ...)
 /* Same, from an rp_error filled by the library. */
 int rp_cli_fail_err(const char *cmd, const rp_error *err);
 
-/* Strict number parsing: the whole text must be a finite number (doubles: a plain
- * decimal as in the input files, io/decimal.h; whole numbers: strtol, base 10). */
-int rp_cli_parse_double(const char *cmd, const char *opt, const char *text, double *out);
-int rp_cli_parse_long(const char *cmd, const char *opt, const char *text, long *out);
-
-/* The scattering options shared by drop/table/gate/...: --band, --frequency,
- * --temperature, --shape, --axis-ratio, --canting-sd, --canting-model,
- * --canting-approx, --elevation, --method. Option codes start at 1000. */
-enum {
-  RP_OPT_BAND = 1000, RP_OPT_FREQUENCY, RP_OPT_TEMPERATURE, RP_OPT_SHAPE, RP_OPT_AXIS_RATIO,
-  RP_OPT_CANTING_SD, RP_OPT_CANTING_MODEL, RP_OPT_CANTING_APPROX, RP_OPT_ELEVATION,
-  RP_OPT_METHOD, RP_OPT_JSON, RP_OPT_HELP, RP_OPT_FIRST_FREE
-};
-#define RP_CLI_SCATTER_LONGOPTS                                            \
-  {"band", required_argument, NULL, RP_OPT_BAND},                          \
-  {"frequency", required_argument, NULL, RP_OPT_FREQUENCY},                \
-  {"temperature", required_argument, NULL, RP_OPT_TEMPERATURE},            \
-  {"shape", required_argument, NULL, RP_OPT_SHAPE},                        \
-  {"axis-ratio", required_argument, NULL, RP_OPT_AXIS_RATIO},              \
-  {"canting-sd", required_argument, NULL, RP_OPT_CANTING_SD},              \
-  {"canting-model", required_argument, NULL, RP_OPT_CANTING_MODEL},        \
-  {"canting-approx", no_argument, NULL, RP_OPT_CANTING_APPROX},            \
-  {"elevation", required_argument, NULL, RP_OPT_ELEVATION},                \
-  {"method", required_argument, NULL, RP_OPT_METHOD},                      \
-  {"json", no_argument, NULL, RP_OPT_JSON},                                \
-  {"help", no_argument, NULL, RP_OPT_HELP}
-
-/* Help text for the shared scattering options. */
-extern const char rp_cli_scatter_help[];
-
-/* State of the shared options while parsing. */
+/* The scattering configuration a command works with, from the shared option tables
+ * (rp_cli_scatter_from_opts below). */
 typedef struct {
   rp_drop_config cfg;
   const char *band;      /* band letter given, or NULL */
@@ -70,9 +40,6 @@ typedef struct {
 } rp_cli_scatter;
 
 void rp_cli_scatter_init(rp_cli_scatter *s);
-/* Handle one getopt code. Returns 1 if handled, 0 if not one of ours,
- * -RP_EXIT_USAGE on a bad value (message printed). */
-int rp_cli_scatter_option(const char *cmd, rp_cli_scatter *s, int code, const char *arg);
 /* The band letter for JSON output: the canonical letter of the band given (or of the
  * default band), NULL (JSON null) for an explicit --frequency, even one at a band centre. */
 const char *rp_cli_scatter_band(const rp_cli_scatter *s);
@@ -109,32 +76,11 @@ const char *rp_cli_presets_dir(void);
 const char *rp_cli_cache_dir(void);
 const char *rp_cli_climates_dir(void);
 
-/* The DSD options shared by gate/curve: --preset NAME, --dsd MODEL with --n0, --lambda,
- * --mu, --nw, --d0, --dm, --rain-rate; --spectrum FILE.csv with --row N; --dmin, --dmax. */
-enum {
-  RP_OPT_PRESET = 1100, RP_OPT_DSD, RP_OPT_N0, RP_OPT_LAMBDA, RP_OPT_MU, RP_OPT_NW, RP_OPT_D0,
-  RP_OPT_DM, RP_OPT_RAIN_RATE, RP_OPT_SPECTRUM, RP_OPT_ROW, RP_OPT_DMIN, RP_OPT_DMAX,
-  RP_OPT_KW2, RP_OPT_HEIGHT
-};
-#define RP_CLI_DSD_LONGOPTS                                                \
-  {"preset", required_argument, NULL, RP_OPT_PRESET},                      \
-  {"dsd", required_argument, NULL, RP_OPT_DSD},                            \
-  {"n0", required_argument, NULL, RP_OPT_N0},                              \
-  {"lambda", required_argument, NULL, RP_OPT_LAMBDA},                      \
-  {"mu", required_argument, NULL, RP_OPT_MU},                              \
-  {"nw", required_argument, NULL, RP_OPT_NW},                              \
-  {"d0", required_argument, NULL, RP_OPT_D0},                              \
-  {"dm", required_argument, NULL, RP_OPT_DM},                              \
-  {"rain-rate", required_argument, NULL, RP_OPT_RAIN_RATE},                \
-  {"spectrum", required_argument, NULL, RP_OPT_SPECTRUM},                  \
-  {"row", required_argument, NULL, RP_OPT_ROW},                            \
-  {"dmin", required_argument, NULL, RP_OPT_DMIN},                          \
-  {"dmax", required_argument, NULL, RP_OPT_DMAX},                          \
-  {"kw2", required_argument, NULL, RP_OPT_KW2},                            \
-  {"height", required_argument, NULL, RP_OPT_HEIGHT}
-
-extern const char rp_cli_dsd_help[];
-
+/* The DSD options shared by gate/curve (table rp_cli_dsd_opts): --preset NAME, --dsd MODEL
+ * with --n0, --lambda, --mu, --nw, --d0, --dm, --rain-rate; --spectrum FILE.csv with
+ * --row N; --dmin, --dmax; --kw2; --height. The parameters' bits in rp_cli_dsd.given are
+ * 1 << (RP_OPT_x - RP_OPT_N0). */
+enum { RP_OPT_N0 = 1100, RP_OPT_LAMBDA, RP_OPT_MU, RP_OPT_NW, RP_OPT_D0, RP_OPT_DM, RP_OPT_RAIN_RATE };
 typedef struct {
   const char *preset, *model, *spectrum;
   double n0, lambda, mu, nw, d0, dm, rain_rate, kw2;
@@ -145,7 +91,6 @@ typedef struct {
 } rp_cli_dsd;
 
 void rp_cli_dsd_init(rp_cli_dsd *o);
-int rp_cli_dsd_option(const char *cmd, rp_cli_dsd *o, int code, const char *arg);
 
 /* A built DSD with what it borrows. */
 typedef struct {
@@ -205,7 +150,8 @@ int rp_cli_check_outputs(const char *cmd, const char *csv_path, const char *plot
 int rp_cli_check_output(const char *cmd, const char *opt, const char *path);
 
 /* A file that could not be written: the one message every command gives,
- * "could not write <what> 'path': <system reason>". Returns the exit code (1). */
+ * "could not write <what> 'path': <system reason>" (path may be NULL, e.g. for standard
+ * output). Returns the exit code (1). */
 int rp_cli_write_failed(const char *cmd, const char *what, const char *path, int errnum);
 
 /* Commands. */

@@ -10,7 +10,6 @@
 #include <strings.h>
 #include <unistd.h>
 
-#include "io/decimal.h"
 #include "rainprint/output_set.h"
 #include "rainprint/shape.h"
 
@@ -28,106 +27,9 @@ int rp_cli_fail_err(const char *cmd, const rp_error *err) {
   return rp_cli_fail(cmd, err->status, "%s", err->msg[0] ? err->msg : rp_status_message(err->status));
 }
 
-/* Option values follow the plain-decimal rule of the input files (io/decimal.h): no
- * nan, inf, hex, blanks or trailing text. */
-int rp_cli_parse_double(const char *cmd, const char *opt, const char *text, double *out) {
-  switch (rp_decimal_parse(text, out)) {
-    case RP_DECIMAL_OK: return 0;
-    case RP_DECIMAL_OUT_OF_RANGE:
-      rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is out of the range of a double", opt, text);
-      return -1;
-    default:
-      rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is not a finite number (plain decimal, e.g. 2.5 "
-                  "or 1e3)", opt, text);
-      return -1;
-  }
-}
-
-int rp_cli_parse_long(const char *cmd, const char *opt, const char *text, long *out) {
-  char *end = NULL;
-  errno = 0;
-  const long x = strtol(text, &end, 10);
-  if (end == text || *end != '\0' || errno == ERANGE) {
-    rp_cli_fail(cmd, RP_EINVAL, "--%s: '%s' is not a whole number", opt, text);
-    return -1;
-  }
-  *out = x;
-  return 0;
-}
-
-const char rp_cli_scatter_help[] =
-    "Scattering options:\n"
-    "  --band S|C|X|Ku|Ka     radar band (centres 2.8, 5.6, 9.4, 13.6, 35 GHz; default C)\n"
-    "  --frequency GHZ        explicit frequency instead of a band\n"
-    "  --temperature C        water temperature (default 10; -10..50)\n"
-    "  --shape MODEL          axis-ratio model: sphere, pruppacher-beard, beard-chuang,\n"
-    "                         andsager, brandes, thurai (default thurai)\n"
-    "  --axis-ratio R         fixed axis ratio b/a for every diameter (0.3..3)\n"
-    "  --canting-sd DEG       standard deviation of the canting angle (default 7; 0..45)\n"
-    "  --canting-model M      planar (tilt across the beam; default) or 3d\n"
-    "  --canting-approx       angular-moment approximation instead of quadrature\n"
-    "  --elevation DEG        beam elevation angle (default 0; 0..90)\n"
-    "  --method M             tmatrix (default), rayleigh, or mie (spheres only)\n"
-    "  --json                 machine-readable output\n"
-    "  --help                 this help\n";
-
 void rp_cli_scatter_init(rp_cli_scatter *s) {
   memset(s, 0, sizeof *s);
   rp_drop_config_default(&s->cfg);
-}
-
-int rp_cli_scatter_option(const char *cmd, rp_cli_scatter *s, int code, const char *arg) {
-  rp_error err = {0};
-  if (code >= RP_OPT_BAND && code <= RP_OPT_METHOD) s->n_scatter_given++;
-  switch (code) {
-    case RP_OPT_BAND:
-      s->band = arg;
-      if (rp_band_frequency_ghz(arg, &s->cfg.freq_ghz, &err) != RP_OK) {
-        rp_cli_fail(cmd, err.status, "--band: %s", err.msg);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    case RP_OPT_FREQUENCY:
-      s->have_frequency = 1;
-      return rp_cli_parse_double(cmd, "frequency", arg, &s->cfg.freq_ghz) ? -RP_EXIT_USAGE : 1;
-    case RP_OPT_TEMPERATURE:
-      return rp_cli_parse_double(cmd, "temperature", arg, &s->cfg.temp_c) ? -RP_EXIT_USAGE : 1;
-    case RP_OPT_SHAPE:
-      if (rp_shape_from_name(arg, &s->cfg.shape, &err) != RP_OK) {
-        rp_cli_fail(cmd, err.status, "--shape: %s", err.msg);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    case RP_OPT_AXIS_RATIO:
-      return rp_cli_parse_double(cmd, "axis-ratio", arg, &s->cfg.axis_ratio_fixed) ? -RP_EXIT_USAGE : 1;
-    case RP_OPT_CANTING_SD:
-      return rp_cli_parse_double(cmd, "canting-sd", arg, &s->cfg.canting_sd_deg) ? -RP_EXIT_USAGE : 1;
-    case RP_OPT_CANTING_MODEL:
-      if (rp_canting_model_from_name(arg, &s->cfg.canting_model, &err) != RP_OK) {
-        rp_cli_fail(cmd, err.status, "--canting-model: %s", err.msg);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    case RP_OPT_CANTING_APPROX:
-      s->cfg.canting_approx = 1;
-      return 1;
-    case RP_OPT_ELEVATION:
-      return rp_cli_parse_double(cmd, "elevation", arg, &s->cfg.elevation_deg) ? -RP_EXIT_USAGE : 1;
-    case RP_OPT_METHOD:
-      if (rp_method_from_name(arg, &s->cfg.method, &err) != RP_OK) {
-        rp_cli_fail(cmd, err.status, "--method: %s", err.msg);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    case RP_OPT_JSON:
-      s->json = 1;
-      return 1;
-    case RP_OPT_HELP:
-      s->help = 1;
-      return 1;
-    default:
-      return 0;
-  }
 }
 
 const char *rp_cli_scatter_band(const rp_cli_scatter *s) {
@@ -369,8 +271,8 @@ int rp_cli_bands_from_opts(const rp_opts *o, const char *default_list, double *f
 }
 
 int rp_cli_write_failed(const char *cmd, const char *what, const char *path, int errnum) {
-  fprintf(stderr, "rainprint %s: could not write %s '%s': %s\n", cmd, what, path,
-          errnum ? strerror(errnum) : "unknown reason");
+  fprintf(stderr, "rainprint %s: could not write %s%s%s%s: %s\n", cmd, what, path ? " '" : "",
+          path ? path : "", path ? "'" : "", errnum ? strerror(errnum) : "unknown reason");
   return RP_EXIT_COMPUTE;
 }
 

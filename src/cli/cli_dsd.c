@@ -70,26 +70,6 @@ const char *rp_cli_cache_dir(void) {
   return NULL;
 }
 
-const char rp_cli_dsd_help[] =
-    "DSD (one of):\n"
-    "  --preset NAME          a named rain (rainprint presets lists them)\n"
-    "  --dsd MODEL            exponential (--n0, --lambda), marshall-palmer (--rain-rate),\n"
-    "                         gamma (--n0, --mu, --lambda), normalized-gamma (--nw, --mu,\n"
-    "                         and --d0 or --dm)\n"
-    "  --spectrum FILE.csv    a measured spectrum (docs/guide.md: format); --row N picks\n"
-    "                         the N-th data row (default 1)\n"
-    "  --n0 X                 intercept (m^-3 mm^-1-mu)\n"
-    "  --lambda X             slope (mm^-1)\n"
-    "  --mu X                 shape parameter\n"
-    "  --nw X                 normalised intercept (m^-3 mm^-1)\n"
-    "  --d0 MM, --dm MM       median-volume / mass-weighted mean diameter\n"
-    "  --rain-rate MM_H       rain rate for marshall-palmer\n"
-    "  --dmin MM, --dmax MM   truncation of analytic DSDs (default: the preset's, else\n"
-    "                         0.1 and 8)\n"
-    "  --kw2 X                |K_w|^2 used to form Z (default 0.93)\n"
-    "  --height KM            correct fall speeds (rain rate) to the air density of the\n"
-    "                         standard atmosphere at this height (default: none)\n";
-
 void rp_cli_dsd_init(rp_cli_dsd *o) {
   memset(o, 0, sizeof *o);
   o->dmin = NAN; /* not given: the preset's truncation, else the default */
@@ -101,54 +81,6 @@ void rp_cli_dsd_init(rp_cli_dsd *o) {
 
 static const char *const param_names[] = {"n0", "lambda", "mu", "nw", "d0", "dm", "rain-rate"};
 #define GIVEN(code) (1u << ((code) - RP_OPT_N0))
-
-int rp_cli_dsd_option(const char *cmd, rp_cli_dsd *o, int code, const char *arg) {
-  double *slot = NULL;
-  switch (code) {
-    case RP_OPT_PRESET: o->preset = arg; return 1;
-    case RP_OPT_DSD: o->model = arg; return 1;
-    case RP_OPT_SPECTRUM: o->spectrum = arg; return 1;
-    case RP_OPT_ROW:
-      if (rp_cli_parse_long(cmd, "row", arg, &o->row)) return -RP_EXIT_USAGE;
-      if (o->row < 1) {
-        rp_cli_fail(cmd, RP_EINVAL, "--row %ld: rows are numbered from 1", o->row);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    case RP_OPT_DMIN: return rp_cli_parse_double(cmd, "dmin", arg, &o->dmin) ? -RP_EXIT_USAGE : 1;
-    case RP_OPT_DMAX: return rp_cli_parse_double(cmd, "dmax", arg, &o->dmax) ? -RP_EXIT_USAGE : 1;
-    case RP_OPT_KW2:
-      if (rp_cli_parse_double(cmd, "kw2", arg, &o->kw2)) return -RP_EXIT_USAGE;
-      if (!(o->kw2 > 0.0 && o->kw2 <= 1.0)) {
-        rp_cli_fail(cmd, RP_EDOM, "--kw2 %g outside (0, 1]", o->kw2);
-        return -RP_EXIT_USAGE;
-      }
-      return 1;
-    case RP_OPT_HEIGHT: {
-      double h;
-      if (rp_cli_parse_double(cmd, "height", arg, &h)) return -RP_EXIT_USAGE;
-      rp_error err = {0};
-      double f;
-      if (rp_fallspeed_density_factor(h, &f, &err) != RP_OK) {
-        rp_cli_fail(cmd, err.status, "--height: %s", err.msg);
-        return -RP_EXIT_USAGE;
-      }
-      o->height_km = h;
-      return 1;
-    }
-    case RP_OPT_N0: slot = &o->n0; break;
-    case RP_OPT_LAMBDA: slot = &o->lambda; break;
-    case RP_OPT_MU: slot = &o->mu; break;
-    case RP_OPT_NW: slot = &o->nw; break;
-    case RP_OPT_D0: slot = &o->d0; break;
-    case RP_OPT_DM: slot = &o->dm; break;
-    case RP_OPT_RAIN_RATE: slot = &o->rain_rate; break;
-    default: return 0;
-  }
-  if (rp_cli_parse_double(cmd, param_names[code - RP_OPT_N0], arg, slot)) return -RP_EXIT_USAGE;
-  o->given |= GIVEN(code);
-  return 1;
-}
 
 /* The parameters a model takes; anything else given is an error, as is a missing one. */
 static int check_params(const char *cmd, const char *model, unsigned given, unsigned required,

@@ -250,7 +250,7 @@ static int close_temp(FILE *f, const char *tmp, const char *path) {
   const int err_no = errno;
   if (fclose(f) != 0 || bad) {
     unlink(tmp);
-    return rp_cli_fail(CMD, RP_EIO, "--csv: could not write '%s': %s", path, strerror(err_no));
+    return rp_cli_write_failed(CMD, "--csv", path, err_no);
   }
   return 0;
 }

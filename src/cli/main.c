@@ -43,9 +43,7 @@ static int check_stdout(const char *cmd, int rc) {
   errno = 0;
   if (fflush(stdout) == 0 && !ferror(stdout)) return rc;
   if (rc != RP_EXIT_OK) return rc;
-  fprintf(stderr, "rainprint %s: could not write the output%s%s\n", cmd, errno ? ": " : "",
-          errno ? strerror(errno) : "");
-  return RP_EXIT_COMPUTE;
+  return rp_cli_write_failed(cmd, "the standard output", NULL, errno);
 }
 
 int main(int argc, char **argv) {
