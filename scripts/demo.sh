@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # demo.sh — set up, build and run the demo: a few drops at S, C and X band, one
 # scattering table, the named rains, one of them at three bands, and a picture of ZDR,
-# KDP and AH against D0. Outputs go to ./demo-out/.
+# KDP and AH against D0, rain relations at C band, the table cache. Outputs go to
+# ./demo-out/.
 set -euo pipefail
 here=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 "$here/scripts/setup.sh" "$here/build"
@@ -37,6 +38,14 @@ echo
 echo "== ZDR, KDP and AH against D0 at S, C and X band (gentle stratiform rain, Nw and mu fixed)"
 "$rp" curve --preset gentle-stratiform --vary d0 --from 0.5 --to 3 --steps 26 \
   --variables zdr,kdp,ah --plot "$out/zdr_kdp_ah_vs_d0.png" --csv "$out/zdr_kdp_ah_vs_d0.csv"
+
+echo
+echo "== Rain relations at C band from 2000 seeded members of the mixed climate"
+"$rp" relate --band C --ensemble 2000 --seed 3 --relations "R(KDP),R(Zh),AH(KDP)"
+
+echo
+echo "== The table cache (tables computed for the runs above)"
+"$rp" cache list
 
 echo
 echo "== Files written"
