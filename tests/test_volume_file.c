@@ -149,6 +149,17 @@ static void test_written_file_reads_back(void **state) {
   assert_non_null(strstr(e.msg, "DBZ"));
   assert_int_equal(rp_volume_file_read_sweep(r, "DBZ", 5, &c, &e), RP_EINVAL);
   assert_int_equal(rp_volume_file_read_rhi(r, "DBZ", NAN, &c, &e), RP_EINVAL);
+  /* accessors and the same-grid check */
+  assert_close(rp_volume_file_range_m(r)[3], v->range_m[3], 0, 1e-3);
+  assert_close(rp_volume_file_azimuth_deg(r)[1], v->azimuth_deg[1], 0, 1e-4);
+  assert_close(rp_volume_file_elevation_deg(r)[v->n_rays - 1], 2.0, 0, 1e-6);
+  size_t first, last;
+  double fa;
+  assert_int_equal(rp_volume_file_sweep_rays(r, 1, &first, &last, &fa, &e), RP_OK);
+  assert_int_equal(first, v->n_rays / 2);
+  assert_int_equal(last, v->n_rays - 1);
+  assert_int_equal(rp_volume_file_sweep_rays(r, 2, &first, &last, &fa, &e), RP_EINVAL);
+  assert_int_equal(rp_volume_file_same_grid(r, r, &e), RP_OK);
   rp_volume_file_close(r);
   free(buf);
   remove(path);
@@ -160,6 +171,23 @@ static void test_written_file_reads_back(void **state) {
   /* uncompressed files read back the same */
   assert_int_equal(rp_volume_file_write_level(v, path, NULL, 0, &e), RP_OK);
   assert_int_equal(rp_volume_file_open(path, &r, &e), RP_OK);
+  {
+    /* a volume of another grid is refused for scoring */
+    rp_scenario s2 = s;
+    s2.radar.gates = 60;
+    rp_volume *v2 = NULL;
+    char path2[300];
+    snprintf(path2, sizeof path2, "%s.small.nc", path);
+    assert_int_equal(rp_volume_synthesize(&s2, rp_volume_model_physics(f.vm), &o, &v2, &e), RP_OK);
+    assert_int_equal(rp_volume_file_write(v2, path2, NULL, &e), RP_OK);
+    rp_volume_reader *r2 = NULL;
+    assert_int_equal(rp_volume_file_open(path2, &r2, &e), RP_OK);
+    assert_int_equal(rp_volume_file_same_grid(r, r2, &e), RP_EINVAL);
+    assert_non_null(strstr(e.msg, "gates"));
+    rp_volume_file_close(r2);
+    rp_volume_free(v2);
+    remove(path2);
+  }
   double *b2 = malloc(v->n_rays * v->n_gates * sizeof *b2);
   assert_int_equal(rp_volume_file_read_field(r, "truth_gate_flag", b2, NULL, 0, &e), RP_OK);
   for (size_t i = 0; i < v->n_rays * v->n_gates; i++)

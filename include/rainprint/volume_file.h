@@ -55,6 +55,22 @@ size_t rp_volume_file_rays(const rp_volume_reader *r);
 size_t rp_volume_file_gates(const rp_volume_reader *r);
 size_t rp_volume_file_sweeps(const rp_volume_reader *r);
 
+/* Per-ray azimuth and elevation (degrees, rays values), per-gate range (m, gates
+ * values), sweep k's first and last ray (inclusive) and fixed angle. Borrowed (valid
+ * until close); NaN where the file has no such variable. */
+const double *rp_volume_file_azimuth_deg(const rp_volume_reader *r);
+const double *rp_volume_file_elevation_deg(const rp_volume_reader *r);
+const double *rp_volume_file_range_m(const rp_volume_reader *r);
+rp_status rp_volume_file_sweep_rays(const rp_volume_reader *r, size_t k, size_t *first,
+                                    size_t *last, double *fixed_angle_deg, rp_error *err);
+
+/* RP_OK when a and b have the same rays and gates (and, where both files have them,
+ * ranges within 0.01 m and azimuths and elevations within 0.01 deg), so that a
+ * retrieval can be scored against the truth gate by gate; RP_EINVAL naming what
+ * differs otherwise. */
+rp_status rp_volume_file_same_grid(const rp_volume_reader *a, const rp_volume_reader *b,
+                                   rp_error *err);
+
 /* Fields: the variables of dimensions (time, range), in file order. Name i is
  * borrowed (valid until close); NULL past the end. */
 size_t rp_volume_file_n_fields(const rp_volume_reader *r);

@@ -399,6 +399,44 @@ size_t rp_volume_file_rays(const rp_volume_reader *r) { return r ? r->rays : 0; 
 size_t rp_volume_file_gates(const rp_volume_reader *r) { return r ? r->gates : 0; }
 size_t rp_volume_file_sweeps(const rp_volume_reader *r) { return r ? r->sweeps : 0; }
 size_t rp_volume_file_n_fields(const rp_volume_reader *r) { return r ? r->n_fields : 0; }
+const double *rp_volume_file_azimuth_deg(const rp_volume_reader *r) { return r ? r->azimuth : NULL; }
+const double *rp_volume_file_elevation_deg(const rp_volume_reader *r) { return r ? r->elevation : NULL; }
+const double *rp_volume_file_range_m(const rp_volume_reader *r) { return r ? r->range : NULL; }
+
+rp_status rp_volume_file_sweep_rays(const rp_volume_reader *r, size_t k, size_t *first,
+                                    size_t *last, double *fixed_angle_deg, rp_error *err) {
+  if (r == NULL) return rp_error_set(err, RP_EINVAL, "volume read: NULL reader");
+  if (k >= r->sweeps)
+    return rp_error_set(err, RP_EINVAL, "%s: sweep %zu does not exist (the file has %zu)", r->path, k, r->sweeps);
+  if (first != NULL) *first = r->sweep_start[k];
+  if (last != NULL) *last = r->sweep_end[k];
+  if (fixed_angle_deg != NULL) *fixed_angle_deg = r->fixed_angle[k];
+  return RP_OK;
+}
+
+/* both finite and further apart than tol (NaN on either side: not compared) */
+static int differ(double x, double y, double tol) {
+  return isfinite(x) && isfinite(y) && fabs(x - y) > tol;
+}
+
+rp_status rp_volume_file_same_grid(const rp_volume_reader *a, const rp_volume_reader *b,
+                                   rp_error *err) {
+  if (a == NULL || b == NULL) return rp_error_set(err, RP_EINVAL, "volume grid: NULL reader");
+  if (a->rays != b->rays || a->gates != b->gates)
+    return rp_error_set(err, RP_EINVAL, "%s has %zu rays x %zu gates but %s has %zu x %zu",
+                        a->path, a->rays, a->gates, b->path, b->rays, b->gates);
+  for (size_t g = 0; g < a->gates; g++)
+    if (differ(a->range[g], b->range[g], 0.01))
+      return rp_error_set(err, RP_EINVAL, "%s and %s: gate %zu at %g m and %g m", a->path,
+                          b->path, g, a->range[g], b->range[g]);
+  for (size_t i = 0; i < a->rays; i++)
+    if (differ(a->azimuth[i], b->azimuth[i], 0.01) || differ(a->elevation[i], b->elevation[i], 0.01))
+      return rp_error_set(err, RP_EINVAL,
+                          "%s and %s: ray %zu at azimuth %g / %g deg, elevation %g / %g deg",
+                          a->path, b->path, i, a->azimuth[i], b->azimuth[i], a->elevation[i],
+                          b->elevation[i]);
+  return RP_OK;
+}
 const char *rp_volume_file_field_name(const rp_volume_reader *r, size_t i) {
   return (r == NULL || i >= r->n_fields) ? NULL : r->names[i];
 }
