@@ -162,5 +162,9 @@ int rp_cmd_curve(int argc, char **argv);
 int rp_cmd_presets(int argc, char **argv);
 int rp_cmd_relate(int argc, char **argv);
 int rp_cmd_cache(int argc, char **argv);
+int rp_cmd_pulses(int argc, char **argv);
+int rp_cmd_scene(int argc, char **argv);
+int rp_cmd_picture(int argc, char **argv);
+int rp_cmd_score(int argc, char **argv);
 
 #endif

@@ -4,6 +4,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include <fftw3.h>
 #include <gsl/gsl_errno.h>
 
 #include "cli/cli.h"
@@ -19,6 +20,7 @@ static const rp_cli_command commands[] = {
     {"presets", "list the named rains with their parameters and S-band values", rp_cmd_presets},
     {"relate", "fit rain relations (R(Zh), R(KDP), AH(KDP), ...) for a band from DSDs", rp_cmd_relate},
     {"cache", "list or clear the cache of computed scattering tables", rp_cmd_cache},
+    {"pulses", "synthesise I/Q pulses of one gate and the statistics of their estimates", rp_cmd_pulses},
 };
 #define N_COMMANDS (sizeof commands / sizeof commands[0])
 
@@ -64,6 +66,7 @@ int main(int argc, char **argv) {
   for (size_t i = 0; i < N_COMMANDS; i++) {
     if (strcmp(argv[1], commands[i].name) == 0) {
       const int rc = commands[i].run(argc - 1, argv + 1);
+      fftw_cleanup(); /* FFTW keeps planner state for the life of the process */
       return check_stdout(argv[1], rc);
     }
   }
