@@ -125,6 +125,7 @@ static void test_bad_files_name_file_line_and_key(void **state) {
       {"cellkey.yaml", "radar:\n  band: C\nrain:\n  cells:\n    - kind: gaussian\n      x_km: 1\n      y_km: 1\n      nw: 1000\n      d0_mm: 1\n      mu: 1\n", "radius_km", ":5:"},
       {"kind.yaml", "radar:\n  band: C\nrain:\n  cells:\n    - kind: blob\n", "blob", "kind.yaml"},
       {"syntax.yaml", "radar:\n  band: [C\n", "YAML", "syntax.yaml"},
+      {"twodocs.yaml", "radar:\n  band: C\n---\nradar:\n  band: X\n", "document", "twodocs.yaml"},
   };
   for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
     rp_scenario s;
@@ -140,6 +141,13 @@ static void test_bad_files_name_file_line_and_key(void **state) {
   rp_error e = {0};
   assert_int_equal(rp_scenario_file_load("/nonexistent/x.yaml", NULL, &s, NULL, &e), RP_EIO);
   assert_int_equal(rp_scenario_file_load(NULL, NULL, &s, NULL, &e), RP_EINVAL);
+  /* a UTF-8 byte-order mark is accepted and not kept in the text */
+  char bom[600];
+  snprintf(bom, sizeof bom, "\xEF\xBB\xBF%s", GOOD);
+  char *text = NULL;
+  assert_int_equal(rp_scenario_file_load(write_tmp("bom.yaml", bom), NULL, &s, &text, &e), RP_OK);
+  assert_int_equal(strncmp(text, "radar:", 6), 0);
+  free(text);
 }
 
 int main(void) {

@@ -1,7 +1,9 @@
 /* scenario_file.c — scenario YAML loader.
  *
- * Method: (1) rp_yaml_load_file (yaml_check.c): the plain-decimal pre-scan and libcyaml
- * against the schema below (unknown keys are errors, positions from libcyaml);
+ * Method: (1) the shared text rules (rp_text_read_file, text_rules.h), then
+ * rp_yaml_load_data (yaml_check.c) on the same bytes: the plain-decimal pre-scan, one
+ * document only, and libcyaml against the schema below (unknown keys are errors,
+ * positions from libcyaml);
  * (2) a libyaml event pass that records the line of every key path
  * ("rain.cells[1].d0_mm"), so that (3) the validation of rp_scenario_check, which names
  * the key path, can add the line. Absent keys keep the defaults of rp_scenario_default.
@@ -16,6 +18,7 @@
 #include <cyaml/cyaml.h>
 #include <yaml.h>
 
+#include "io/text_rules.h"
 #include "io/yaml_check.h"
 #include "rainprint/drop.h"
 #include "rainprint/dsd.h"
@@ -207,15 +210,10 @@ static void add_line(key_lines *kl, const char *path, unsigned line) {
 
 /* Record the line of every key path of the file (best effort: a failure leaves the
  * list short and messages without a line). */
-static void scan_lines(const char *path, key_lines *kl) {
-  FILE *f = fopen(path, "rb");
-  if (f == NULL) return;
+static void scan_lines(const char *data, size_t n, key_lines *kl) {
   yaml_parser_t p;
-  if (!yaml_parser_initialize(&p)) {
-    fclose(f);
-    return;
-  }
-  yaml_parser_set_input_file(&p, f);
+  if (!yaml_parser_initialize(&p)) return;
+  yaml_parser_set_input_string(&p, (const unsigned char *)data, n);
   /* stack of containers: for mappings the pending key, for sequences the index */
   struct {
     int is_seq, expect_key;
@@ -270,7 +268,6 @@ static void scan_lines(const char *path, key_lines *kl) {
     if (t == YAML_STREAM_END_EVENT) break;
   }
   yaml_parser_delete(&p);
-  fclose(f);
 }
 
 /* line of key path (or of its longest recorded prefix); 0 when unknown */
@@ -289,31 +286,6 @@ static unsigned line_of(const key_lines *kl, const char *key) {
 }
 
 /* ---- load ------------------------------------------------------------------------ */
-
-static char *slurp(const char *path) {
-  FILE *f = fopen(path, "rb");
-  if (f == NULL) return NULL;
-  size_t cap = 4096, n = 0;
-  char *b = malloc(cap);
-  while (b != NULL) {
-    const size_t got = fread(b + n, 1, cap - n - 1, f);
-    n += got;
-    if (got == 0) break;
-    if (n + 1 == cap) {
-      char *nb = realloc(b, 2 * cap);
-      if (nb == NULL) {
-        free(b);
-        b = NULL;
-        break;
-      }
-      b = nb;
-      cap *= 2;
-    }
-  }
-  fclose(f);
-  if (b != NULL) b[n] = '\0';
-  return b;
-}
 
 #define SET(dst, src) do { if ((src) != NULL) (dst) = *(src); } while (0)
 
@@ -495,37 +467,43 @@ rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_sc
                                 char **text, rp_error *err) {
   if (text != NULL) *text = NULL;
   if (path == NULL || out == NULL) return rp_error_set(err, RP_EINVAL, "scenario: NULL path or output");
+  /* the shared text rules (regular file, size, BOM, NUL bytes, line length), then the
+   * YAML scan and libcyaml on the same bytes */
+  char *data = NULL;
+  size_t n = 0;
+  RP_TRY(rp_text_read_file(path, &data, &n, err));
   cyaml_data_t *raw = NULL;
-  RP_TRY(rp_yaml_load_file(path, &doc_schema, numeric_keys,
-                           sizeof numeric_keys / sizeof numeric_keys[0],
-                           "a scenario needs at least a radar: section", &raw, err));
+  rp_status st = rp_yaml_load_data(path, data, n, &doc_schema, numeric_keys,
+                                   sizeof numeric_keys / sizeof numeric_keys[0],
+                                   "a scenario needs at least a radar: section", &raw, err);
+  if (st != RP_OK) {
+    free(data);
+    return st;
+  }
   const scen_doc *d = raw;
   rp_scenario *s = malloc(sizeof *s);
   if (s == NULL) {
     rp_yaml_free(&doc_schema, raw);
+    free(data);
     return rp_error_set(err, RP_ENOMEM, "%s: out of memory", path);
   }
   char key[96] = "";
   rp_error e2 = {0};
-  rp_status st = fill(d, path, presets_dir, s, key, sizeof key, &e2);
+  st = fill(d, path, presets_dir, s, key, sizeof key, &e2);
   rp_yaml_free(&doc_schema, raw);
   if (st != RP_OK) {
     key_lines kl = {NULL, 0, 0};
-    scan_lines(path, &kl);
+    scan_lines(data, n, &kl);
     const unsigned line = key[0] != '\0' ? line_of(&kl, key) : 0;
     free(kl.v);
     free(s);
+    free(data);
     if (line > 0) return rp_error_set(err, st, "%s:%u: %s", path, line, e2.msg);
     return rp_error_set(err, st, "%s: %s", path, e2.msg);
   }
-  if (text != NULL) {
-    *text = slurp(path);
-    if (*text == NULL) {
-      free(s);
-      return rp_error_set(err, RP_EIO, "%s: cannot read the file", path);
-    }
-  }
   *out = *s;
   free(s);
+  if (text != NULL) *text = data; /* without a BOM: the scenario attribute */
+  else free(data);
   return RP_OK;
 }
