@@ -8,6 +8,7 @@
 
 #include <fftw3.h>
 
+#include "rainprint/beam.h"
 #include "rainprint/dsd.h"
 #include "rainprint/fallmoments.h"
 #include "rainprint/fallspeed.h"
@@ -108,12 +109,13 @@ static void test_noise_free_fields_obey_the_path_integrals(void **state) {
   rp_scenario s;
   small_scene(&s);
   s.noise = false;
+  s.radar.zdr_bias_db = 0.2;
   rp_volume_options o;
   rp_volume_options_from_scenario(&s, &o);
   rp_volume *v = NULL;
   assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
   const double dr = 0.25;
-  size_t checked = 0;
+  size_t checked = 0, checked_ldr = 0;
   for (size_t ray = 0; ray < v->n_rays; ray++) {
     double ck = 0, ca = 0, cd = 0;
     for (size_t g = 0; g < v->n_gates; g++) {
@@ -130,11 +132,18 @@ static void test_noise_free_fields_obey_the_path_integrals(void **state) {
       assert_close(rp_volume_get(v, RP_VF_DBZ, ray, g),
                    rp_volume_get(v, RP_VF_TRUTH_ZH, ray, g) - pia, 1e-5, 1e-4);
       assert_close(rp_volume_get(v, RP_VF_ZDR, ray, g),
-                   rp_volume_get(v, RP_VF_TRUTH_ZDR, ray, g) - piad, 1e-5, 1e-4);
+                   rp_volume_get(v, RP_VF_TRUTH_ZDR, ray, g) - piad + 0.2, 1e-5, 1e-4);
+      /* LDR: co-polar 2∫A_H, cross-polar ∫A_H + ∫A_V: gains half the two-way A_DP */
+      const double ldr = rp_volume_get(v, RP_VF_LDRH, ray, g); /* NaN: cross-polar below noise */
+      if (!isnan(ldr)) {
+        assert_close(ldr, rp_volume_get(v, RP_VF_TRUTH_LDR, ray, g) + 0.5 * piad, 1e-5, 1e-4);
+        checked_ldr++;
+      }
       checked++;
     }
   }
   assert_true(checked > 10000);
+  assert_true(checked_ldr > 1000);
   assert_true(v->summary.max_pia_db > 1.0); /* the cell attenuates: the check is not empty */
   rp_volume_free(v);
   fixture_free(&f);
@@ -509,6 +518,136 @@ static void test_score_of_a_scaled_retrieval(void **state) {
   assert_true(isnan(sc.bias));
 }
 
+/* Uniform rain without noise: PHIDP is linear in range, so the least-squares KDP equals
+ * the true KDP (float PHIDP of ~100 deg carries 1e-5 deg: 1e-3 deg/km is ample), and
+ * missing within half a window of each end. */
+static void test_kdp_estimate_is_exact_for_uniform_rain(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  small_scene(&s);
+  s.n_cells = 0;
+  s.noise = false;
+  s.radar.n_elevations = 1;
+  s.kdp_window_gates = 7;
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
+  size_t n = 0;
+  for (size_t i = 0; i < v->n_rays; i++)
+    for (size_t g = 0; g < v->n_gates; g++) {
+      const double k = rp_volume_get(v, RP_VF_KDP, i, g);
+      if (g < 3 || g + 3 >= v->n_gates) {
+        assert_true(isnan(k));
+        continue;
+      }
+      if (isnan(rp_volume_get(v, RP_VF_PHIDP, i, g))) continue;
+      assert_close(k, rp_volume_get(v, RP_VF_TRUTH_KDP, i, g), 0, 1e-3);
+      n++;
+    }
+  assert_true(n > 1000);
+  rp_volume_free(v);
+  fixture_free(&f);
+}
+
+/* Beam filling: the Gauss–Hermite weights sum to 1, so uniform rain (the fake evaluator
+ * ignores temperature) gives the same truth as the beam centre (float storage: 1e-6
+ * relative); near the freezing level part of the beam is above it and holds no rain,
+ * so the beam-filled Z_h is lower there than at the centre alone. */
+static void test_beam_filling_preserves_uniform_rain_and_sees_the_freezing_level(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  small_scene(&s);
+  s.n_cells = 0;
+  s.noise = false;
+  s.radar.n_elevations = 1;
+  s.radar.elevations_deg[0] = 3.0;
+  s.surface_temperature_c = 10.0; /* freezing level at 1538 m: reached at ~25 km */
+  s.radar.beamwidth_deg = 2.0;
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *a = NULL, *b = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &a, NULL), RP_OK);
+  s.beam_samples = 3;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &b, NULL), RP_OK);
+  size_t same = 0, lower = 0;
+  for (size_t g = 0; g < a->n_gates; g++) {
+    const double h = rp_volume_get(a, RP_VF_GATE_HEIGHT, 0, g);
+    const double za = rp_volume_get(a, RP_VF_TRUTH_ZH, 0, g), zb = rp_volume_get(b, RP_VF_TRUTH_ZH, 0, g);
+    const double sig_h = 1000.0 * 0.25 * (double)(g + 0.5) * rp_beam_sigma_deg(2.0) * M_PI / 180.0;
+    if (h + 3.0 * sig_h < a->freezing_level_m) {
+      assert_close(zb, za, 1e-6, 1e-5);
+      same++;
+    } else if (h < a->freezing_level_m && h + sig_h > a->freezing_level_m) {
+      assert_true(zb < za);
+      lower++;
+    }
+  }
+  assert_true(same > 50 && lower > 3);
+  rp_volume_free(a);
+  rp_volume_free(b);
+  fixture_free(&f);
+}
+
+/* Scene fields: a Rankine vortex turns anticlockwise with the peak speed at its radius
+ * and half of it at twice the radius; a gaussian cell has w = e^(-1/2) at one radius and
+ * a line cell the same at half its width across the axis (the rules of scenario.h). */
+static void test_scene_fields_follow_their_definitions(void **state) {
+  (void)state;
+  rp_scenario s;
+  rp_scenario_default(&s);
+  s.wind.has_vortex = true;
+  s.wind.vortex_x_km = 10;
+  s.wind.vortex_y_km = 0;
+  s.wind.vortex_radius_km = 2;
+  s.wind.vortex_peak_ms = 20;
+  double u, v;
+  rp_scenario_wind_at(&s, 12, 0, &u, &v); /* east of the centre: anticlockwise = north */
+  assert_close(u, 0, 0, 1e-12);
+  assert_close(v, 20, 1e-12, 0);
+  rp_scenario_wind_at(&s, 10, 4, &u, &v); /* north, 2R: west at half speed */
+  assert_close(u, -10, 1e-12, 0);
+  assert_close(v, 0, 0, 1e-12);
+  rp_scenario_wind_at(&s, 11, 0, &u, &v); /* inside: solid rotation */
+  assert_close(v, 10, 1e-12, 0);
+  /* cells without a background: Nw = w Nw_peak */
+  s.has_background = false;
+  s.n_cells = 2;
+  s.cells[0] = (rp_cell){RP_CELL_GAUSSIAN, 0, 0, 3, 0, 0, 0, 1000, 1.5, 2};
+  s.cells[1] = (rp_cell){RP_CELL_LINE, 100, 0, 0, 40, 4, 90, 2000, 2.0, 1};
+  double nw, d0, mu;
+  assert_int_equal(rp_scenario_dsd_at(&s, 3, 0, &nw, &d0, &mu), 1);
+  assert_close(nw, 1000 * exp(-0.5), 1e-12, 0);
+  assert_close(d0, 1.5, 0, 0);
+  /* line along east-west (90 deg), 40 km flat top: 15 km east of its centre, 2 km north */
+  assert_int_equal(rp_scenario_dsd_at(&s, 115, 2, &nw, &d0, &mu), 1);
+  assert_close(nw, 2000 * exp(-0.5), 1e-12, 0);
+  /* far from everything: no rain */
+  assert_int_equal(rp_scenario_dsd_at(&s, 50, 50, &nw, &d0, &mu), 0);
+  /* with a background, log10 Nw, D0 and mu blend linearly in w */
+  s.has_background = true;
+  s.bg_nw_m3_mm = 100;
+  s.bg_d0_mm = 1.0;
+  s.bg_mu = 4;
+  assert_int_equal(rp_scenario_dsd_at(&s, 0, 0, &nw, &d0, &mu), 1);
+  assert_close(nw, 1000, 1e-12, 0);
+  const double w = exp(-0.5);
+  assert_int_equal(rp_scenario_dsd_at(&s, 0, 3, &nw, &d0, &mu), 1);
+  assert_close(log10(nw), (1 - w) * 2 + w * 3, 1e-12, 0);
+  assert_close(d0, (1 - w) * 1.0 + w * 1.5, 1e-12, 0);
+  assert_close(mu, (1 - w) * 4 + w * 2, 1e-12, 0);
+  /* freezing level and temperature: 20 C, 6.5 C/km at 100 m altitude */
+  s.radar.altitude_m = 100;
+  assert_close(rp_scenario_freezing_level_m(&s), 100 + 20 / 6.5 * 1000, 1e-12, 0);
+  assert_close(rp_scenario_temperature_c(&s, 1100), 13.5, 1e-12, 0);
+  /* Nyquist velocity lambda PRF / 4: C band 5.6 GHz, 1000 Hz -> 13.38 m/s */
+  assert_close(rp_scenario_nyquist_ms(&s), 299792458.0 / 5.6e9 * 1000 / 4, 1e-12, 0);
+}
+
 int main(void) {
   rp_test_init();
   const struct CMUnitTest tests[] = {
@@ -519,6 +658,9 @@ int main(void) {
       cmocka_unit_test(test_same_seed_gives_the_same_volume_on_one_and_two_threads),
       cmocka_unit_test(test_gates_above_the_freezing_level_are_flagged_not_rain),
       cmocka_unit_test(test_bad_scenarios_are_refused_with_the_key),
+      cmocka_unit_test(test_kdp_estimate_is_exact_for_uniform_rain),
+      cmocka_unit_test(test_beam_filling_preserves_uniform_rain_and_sees_the_freezing_level),
+      cmocka_unit_test(test_scene_fields_follow_their_definitions),
       cmocka_unit_test(test_fall_moments_limits),
       cmocka_unit_test(test_score_of_a_scaled_retrieval),
   };
