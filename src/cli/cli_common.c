@@ -172,8 +172,9 @@ const rp_opts_spec rp_cli_scatter_opts[] = {
                      "(planar canting only)"),
     RP_OPTS_DOUBLE_ROW("elevation", "DEG", "beam elevation angle", 0.0, 90.0, RP_OPTS_RANGED,
                        "0"),
-    RP_OPTS_ENUM_ROW("method", "M", "scattering method (mie: spheres only)", method_names,
-                     "tmatrix"),
+    RP_OPTS_ENUM_ROW("method", "M",
+                     "scattering method (mie: spheres, and single drops with rainprint drop only)",
+                     method_names, "tmatrix"),
     RP_OPTS_END};
 
 const rp_opts_spec rp_cli_band_opts[] = {

@@ -249,10 +249,14 @@ const rp_opts_spec rp_cli_dsd_opts[] = {
     RP_OPTS_DOUBLE_ROW("dm", "MM", "mass-weighted mean diameter", 0.0, RP_DSD_D_LIMIT_MM,
                        RP_OPTS_RANGED | RP_OPTS_LO_OPEN, NULL),
     RP_OPTS_DOUBLE_ROW("rain-rate", "MM_H", "rain rate for marshall-palmer", 0, 0, 0, NULL),
-    RP_OPTS_DOUBLE_ROW("dmin", "MM", "smallest diameter of an analytic DSD", 0.0,
+    RP_OPTS_DOUBLE_ROW("dmin", "MM",
+                       "smallest diameter of an analytic DSD, at least the scattering table's "
+                       "smallest (0.1 mm for the built-in tables)", 0.0,
                        RP_DSD_D_LIMIT_MM, RP_OPTS_RANGED | RP_OPTS_LO_OPEN,
                        "the preset's, else 0.1"),
-    RP_OPTS_DOUBLE_ROW("dmax", "MM", "largest diameter of an analytic DSD", 0.0,
+    RP_OPTS_DOUBLE_ROW("dmax", "MM",
+                       "largest diameter of an analytic DSD, at most the scattering table's "
+                       "largest (8 mm for the built-in tables)", 0.0,
                        RP_DSD_D_LIMIT_MM, RP_OPTS_RANGED | RP_OPTS_LO_OPEN,
                        "the preset's, else 8"),
     RP_OPTS_DOUBLE_ROW("kw2", "X", "|K_w|^2 used to form Z", 0.0, 1.0,

@@ -73,10 +73,10 @@ static const char *const VARY_NAMES[N_VARY] = {"d0", "dm", "mu", "nw", "rain-rat
 
 static const rp_opts_spec curve_opts_table[] = {
     RP_OPTS_ENUM_ROW("vary", "NAME",
-                     "what to vary (required): d0, dm, nw (base: a normalised gamma), mu (a "
-                     "gamma or normalised gamma), rain-rate (marshall-palmer), temperature, "
-                     "elevation, canting-sd (any base); the value replaces the base's, and a "
-                     "varied DSD parameter need not be given with --dsd", VARY_NAMES, NULL),
+                     "what to vary (required). The value replaces the base's; d0, dm and nw "
+                     "need a normalised-gamma base, mu a gamma or normalised gamma, rain-rate "
+                     "marshall-palmer, the scattering ones any base; a varied DSD parameter "
+                     "need not be given with --dsd", VARY_NAMES, NULL),
     RP_OPTS_DOUBLE_ROW("from", "X", "first value, in the parameter's unit (mm, m^-3 mm^-1, "
                        "mm/h, C, deg)", 0, 0, 0, NULL),
     RP_OPTS_DOUBLE_ROW("to", "Y", "last value, greater than --from", 0, 0, 0, NULL),
