@@ -364,24 +364,31 @@ static void test_gates_above_the_freezing_level_are_flagged_not_rain(void **stat
   rp_scenario s;
   small_scene(&s);
   s.surface_temperature_c = 6.0; /* freezing level 923 m */
-  rp_volume_options o;
-  rp_volume_options_from_scenario(&s, &o);
-  rp_volume *v = NULL;
-  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
-  size_t above = 0;
-  for (size_t i = 0; i < v->n_rays; i++)
-    for (size_t g = 0; g < v->n_gates; g++) {
-      const double h = rp_volume_get(v, RP_VF_GATE_HEIGHT, i, g);
-      const double fl = rp_volume_get(v, RP_VF_TRUTH_FLAG, i, g);
-      if (h > v->freezing_level_m) {
-        above++;
-        assert_close(fl, RP_GATE_ABOVE_FREEZING, 0, 0);
-        assert_true(isnan(rp_volume_get(v, RP_VF_DBZ, i, g)));
-        assert_true(isnan(rp_volume_get(v, RP_VF_TRUTH_ZH, i, g)));
+  /* with the beam centre only, and with 3 x 3 beam samples (part of the beam below) */
+  for (int nb = 1; nb <= 3; nb += 2) {
+    s.beam_samples = nb;
+    rp_volume_options o;
+    rp_volume_options_from_scenario(&s, &o);
+    rp_volume *v = NULL;
+    assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
+    size_t above = 0;
+    for (size_t i = 0; i < v->n_rays; i++)
+      for (size_t g = 0; g < v->n_gates; g++) {
+        const double h = rp_volume_get(v, RP_VF_GATE_HEIGHT, i, g);
+        const double fl = rp_volume_get(v, RP_VF_TRUTH_FLAG, i, g);
+        if (h > v->freezing_level_m) {
+          above++;
+          assert_close(fl, RP_GATE_ABOVE_FREEZING, 0, 0);
+          assert_true(isnan(rp_volume_get(v, RP_VF_DBZ, i, g)));
+          assert_true(isnan(rp_volume_get(v, RP_VF_TRUTH_ZH, i, g)));
+          assert_true(isnan(rp_volume_get(v, RP_VF_TRUTH_RAIN, i, g)));
+        } else {
+          assert_true(fl != RP_GATE_ABOVE_FREEZING);
+        }
       }
-    }
-  assert_true(above > 1000);
-  rp_volume_free(v);
+    assert_true(above > 1000);
+    rp_volume_free(v);
+  }
   fixture_free(&f);
 }
 

@@ -212,8 +212,7 @@ static double radial_wind(const rp_scenario *s, double x_km, double y_km, double
 }
 
 /* One ray: truth, propagation, noise, KDP. Returns a status with the place named. */
-static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, float *kdp_work,
-                        rp_error *err) {
+static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, rp_error *err) {
   const rp_scenario *s = j->s;
   const rp_volume *v = j->v;
   const size_t ng = v->n_gates;
@@ -251,7 +250,9 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, float
     if (nb == 1) {
       if (flag == RP_GATE_RAIN)
         RP_TRY(j->p->eval(j->p->ctx, j->sweep, tc, nw, d0, mu, &lin, err));
-    } else {
+    } else if (flag != RP_GATE_ABOVE_FREEZING) {
+      /* a gate whose centre is above the freezing level stays without rain even when
+       * the lower part of the beam is below it (the gate is flagged, never rain) */
       for (int ke = 0; ke < nb; ke++) {
         const size_t kix = (size_t)ke * ng + gi;
         const double hk = g->height_m[kix];
@@ -382,7 +383,6 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, float
   const int half = s->kdp_window_gates / 2;
   const float *phi = F[RP_VF_PHIDP] + row;
   float *kdp_out = F[RP_VF_KDP] + row;
-  (void)kdp_work;
   double sxx = 0;
   for (int k = -half; k <= half; k++) sxx += (double)k * k;
   sxx *= j->dr_km * j->dr_km;
@@ -544,7 +544,7 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
     for (long i = 0; i < nr; i++) {
       rp_error e;
       memset(&e, 0, sizeof e);
-      const rp_status rs = do_ray(&job, (size_t)i, k * rays_per + (size_t)i, NULL, &e);
+      const rp_status rs = do_ray(&job, (size_t)i, k * rays_per + (size_t)i, &e);
       if (rs != RP_OK) {
 #pragma omp critical(rp_volume_error)
         {
@@ -571,9 +571,7 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
     return st;
   }
   for (size_t i = 0; i < cells; i++) {
-    const float fl = v->field[RP_VF_TRUTH_FLAG][i];
     if (!isnan(v->field[RP_VF_TRUTH_ZH][i])) sum.rain_gates++;
-    (void)fl;
     if (!isnan(v->field[RP_VF_DBZ][i])) sum.observed_gates++;
     const double pia = v->field[RP_VF_TRUTH_PIA][i];
     if (pia > sum.max_pia_db) sum.max_pia_db = pia;
