@@ -498,6 +498,7 @@ static int compute(const curve_opts *c, const rp_gate_request *req, const rp_cli
   rp_cli_progress_start(&bar, CMD, "values", n);
   for (size_t i = 0; i < n && rc == 0; i++) {
     rp_gate_request r = *req;
+    r.dsd_label = base->label;
     set_scatter(c->vary, x[i], &r.cfg);
     char where[96];
     snprintf(where, sizeof where, "%s at %s = %g", CMD, vi->column, x[i]);

@@ -82,6 +82,7 @@ int rp_cmd_gate(int argc, char **argv) {
   rc = rp_cli_dsd_build("gate", &d, &dsd);
   rp_gate_session session = {0};
   rp_gate_run_result res;
+  req.dsd_label = dsd.label;
   if (rc == 0) rc = rp_gate_run("gate", &session, &req, &dsd.dsd, &res);
   if (rc == 0) {
     if (rp_opts_given(&o, "json"))

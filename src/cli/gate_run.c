@@ -85,8 +85,26 @@ static void warn_water(const char *cmd, const rp_dsd *dsd, double tmin, double t
 
 /* An analytic DSD reaching past the table would lose its largest drops: refused up front,
  * with the share of water concerned and what to give instead. */
-static int check_truncation(const char *cmd, const rp_dsd *dsd, double tmin, double tmax) {
-  if (dsd->model == RP_DSD_SPECTRUM) return 0;
+static int check_truncation(const char *cmd, const char *label, const rp_dsd *dsd, double tmin,
+                            double tmax) {
+  if (dsd->model == RP_DSD_SPECTRUM) {
+    /* The gate integrator refuses drops above the table; say which bin (counted from 1),
+     * how much water it holds and what to do, naming the file and row. */
+    for (size_t i = 0; i < dsd->n_bins; i++) {
+      const double c = dsd->bin_center_mm[i], hi = c + 0.5 * dsd->bin_width_mm[i];
+      if (dsd->bin_conc_m3_mm[i] > 0.0 && c >= dsd->dmin_mm && c <= dsd->dmax_mm &&
+          hi > tmax + RP_DSD_BIN_SLACK_MM) {
+        const double lost = rp_gate_water_outside(dsd, 0.0, tmax);
+        return rp_cli_fail(cmd, RP_EDOM,
+                           "%s%sbin %zu (%g..%g mm) has drops above the scattering table's "
+                           "largest diameter %g mm (%.3g %% of the water); give a table that "
+                           "reaches %g mm (rainprint table --dmax ..., then --table)",
+                           label ? label : "", label ? ": " : "", i + 1,
+                           c - 0.5 * dsd->bin_width_mm[i], hi, tmax, 100.0 * lost, hi);
+      }
+    }
+    return 0;
+  }
   const double slack = RP_DSD_BIN_SLACK_MM;
   if (dsd->dmin_mm >= tmin - slack && dsd->dmax_mm <= tmax + slack) return 0;
   const double lost = rp_gate_water_outside(dsd, tmin, tmax);
@@ -102,9 +120,9 @@ int rp_gate_run(const char *cmd, rp_gate_session *s, const rp_gate_request *req,
   rp_error err = {0};
   memset(out, 0, sizeof *out);
   const int bad = req->table != NULL
-                      ? check_truncation(cmd, dsd, req->table->d_mm[0],
+                      ? check_truncation(cmd, req->dsd_label, dsd, req->table->d_mm[0],
                                          req->table->d_mm[req->table->n - 1])
-                      : check_truncation(cmd, dsd, RP_TABLE_DMIN_DEFAULT_MM,
+                      : check_truncation(cmd, req->dsd_label, dsd, RP_TABLE_DMIN_DEFAULT_MM,
                                          RP_TABLE_DMAX_DEFAULT_MM);
   if (bad) return bad;
   double factor = 1.0; /* fall speeds as the formula gives them (1013 hPa, 20 C air) */

@@ -22,6 +22,7 @@ typedef struct {
   const rp_table *table; /* a table the user gave (--table): used for its one band */
   int correct_fall_speed; /* non-zero: fall speeds corrected to the air at height_km */
   double height_km;
+  const char *dsd_label;  /* named in messages about the DSD ("file.csv row 2"), or NULL */
 } rp_gate_request;
 
 typedef struct {

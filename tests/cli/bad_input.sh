@@ -100,6 +100,10 @@ for f in "$spectra"/bad_*.csv; do
   bad_case "$(basename "$f")" "$rp" gate --spectrum "$f"
 done
 bad_case "no-such.csv: cannot open" "$rp" gate --spectrum "$work/no-such.csv"
+printf 'bin_center_mm, 1.0, 3.0, 9.0\nbin_width_mm, 2.0, 2.0, 2.0\nr1, 1000, 100, 1\n' >"$work/big_drops.csv"
+bad_case "big_drops.csv row 1 r1: bin 3 (8..10 mm) has drops above the scattering table's largest diameter 8 mm" \
+  "$rp" gate --spectrum "$work/big_drops.csv"
+bad_case "big_drops.csv row 1 r1: bin 3" "$rp" curve --spectrum "$work/big_drops.csv" --vary elevation --from 0 --to 5 --csv "$out/c.csv"
 bad_case "(bin 1)" "$rp" gate --spectrum "$spectra/bad_below_zero.csv"
 
 # ---- table ------------------------------------------------------------------------------
