@@ -332,6 +332,19 @@ static int volumes_equal(const rp_volume *a, const rp_volume *b) {
   return 1;
 }
 
+typedef struct {
+  int calls;
+  double last;
+  int increasing;
+} progress_log;
+
+static void on_progress(void *ctx, double fraction) {
+  progress_log *p = ctx;
+  if (fraction <= p->last) p->increasing = 0;
+  p->last = fraction;
+  p->calls++;
+}
+
 static void test_same_seed_gives_the_same_volume_on_one_and_two_threads(void **state) {
   (void)state;
   fixture f;
@@ -346,7 +359,15 @@ static void test_same_seed_gives_the_same_volume_on_one_and_two_threads(void **s
   o.threads = 1;
   assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &a, NULL), RP_OK);
   o.threads = 2;
+  progress_log pl = {0, 0.0, 1};
+  o.progress = on_progress;
+  o.progress_ctx = &pl;
   assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &b, NULL), RP_OK);
+  /* progress: once per sweep, increasing, ending at 1 */
+  assert_int_equal(pl.calls, (int)s.radar.n_elevations);
+  assert_true(pl.increasing);
+  assert_close(pl.last, 1.0, 0, 0);
+  o.progress = NULL;
   o.seed = 100;
   assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &c, NULL), RP_OK);
   assert_true(volumes_equal(a, b));

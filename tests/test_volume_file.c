@@ -9,6 +9,8 @@
 #include <string.h>
 #include <unistd.h>
 
+#include <netcdf.h>
+
 #include "rainprint/beam.h"
 #include "rainprint/radar_model.h"
 #include "rainprint/scenario_file.h"
@@ -202,6 +204,55 @@ static void test_written_file_reads_back(void **state) {
   model_close(&f);
 }
 
+/* A user's retrieval: only time and range dimensions, a short field with scale_factor,
+ * add_offset and _FillValue, a double field with valid_max. The reader applies the
+ * scaling (CF conventions), turns fill and out-of-range values into NaN, and sees one
+ * sweep of all rays. */
+static void test_reader_takes_a_plain_retrieval_file(void **state) {
+  (void)state;
+  char path[256];
+  snprintf(path, sizeof path, "/tmp/rp_test_retrieval_%d.nc", (int)getpid());
+  int nc, dt, dr, vs, vd;
+  assert_int_equal(nc_create(path, NC_NETCDF4 | NC_CLOBBER, &nc), NC_NOERR);
+  assert_int_equal(nc_def_dim(nc, "time", 3, &dt), NC_NOERR);
+  assert_int_equal(nc_def_dim(nc, "range", 2, &dr), NC_NOERR);
+  const int dims[2] = {dt, dr};
+  assert_int_equal(nc_def_var(nc, "rain_short", NC_SHORT, 2, dims, &vs), NC_NOERR);
+  const short fill = -32768;
+  const double scale = 0.1, offset = 5.0, vmax = 100.0;
+  assert_int_equal(nc_def_var_fill(nc, vs, 0, &fill), NC_NOERR);
+  assert_int_equal(nc_put_att_double(nc, vs, "scale_factor", NC_DOUBLE, 1, &scale), NC_NOERR);
+  assert_int_equal(nc_put_att_double(nc, vs, "add_offset", NC_DOUBLE, 1, &offset), NC_NOERR);
+  assert_int_equal(nc_put_att_text(nc, vs, "units", 4, "mm/h"), NC_NOERR);
+  assert_int_equal(nc_def_var(nc, "rain_double", NC_DOUBLE, 2, dims, &vd), NC_NOERR);
+  assert_int_equal(nc_put_att_double(nc, vd, "valid_max", NC_DOUBLE, 1, &vmax), NC_NOERR);
+  assert_int_equal(nc_enddef(nc), NC_NOERR);
+  const short sv[6] = {0, 10, -32768, 100, 20, -50};
+  const double dv[6] = {1, 2, 3, 400, 5, 6};
+  assert_int_equal(nc_put_var_short(nc, vs, sv), NC_NOERR);
+  assert_int_equal(nc_put_var_double(nc, vd, dv), NC_NOERR);
+  assert_int_equal(nc_close(nc), NC_NOERR);
+  rp_volume_reader *r = NULL;
+  rp_error e = {0};
+  assert_int_equal(rp_volume_file_open(path, &r, &e), RP_OK);
+  assert_int_equal(rp_volume_file_sweeps(r), 1);
+  assert_int_equal(rp_volume_file_n_fields(r), 2);
+  double out[6];
+  char units[16];
+  assert_int_equal(rp_volume_file_read_field(r, "rain_short", out, units, sizeof units, &e), RP_OK);
+  assert_string_equal(units, "mm/h");
+  const double want[6] = {5.0, 6.0, NAN, 15.0, 7.0, 0.0};
+  for (int i = 0; i < 6; i++) {
+    if (isnan(want[i])) assert_true(isnan(out[i]));
+    else assert_close(out[i], want[i], 1e-12, 1e-12);
+  }
+  assert_int_equal(rp_volume_file_read_field(r, "rain_double", out, NULL, 0, &e), RP_OK);
+  assert_true(isnan(out[3]));
+  assert_close(out[4], 5.0, 0, 0);
+  rp_volume_file_close(r);
+  remove(path);
+}
+
 static int write_helper(const char *scen, const char *out) {
   rp_test_init();
   rp_scenario s;
@@ -229,6 +280,7 @@ int main(int argc, char **argv) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_model_binding_matches_direct_gate),
       cmocka_unit_test(test_written_file_reads_back),
+      cmocka_unit_test(test_reader_takes_a_plain_retrieval_file),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
 }
