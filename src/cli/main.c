@@ -20,6 +20,10 @@ static const rp_cli_command commands[] = {
     {"presets", "list the named rains with their parameters and S-band values", rp_cmd_presets},
     {"relate", "fit rain relations (R(Zh), R(KDP), AH(KDP), ...) for a band from DSDs", rp_cmd_relate},
     {"cache", "list or clear the cache of computed scattering tables", rp_cmd_cache},
+    {"scene", "synthesise a radar volume with known truth from a scenario file", rp_cmd_scene},
+    {"picture", "draw fields of a volume: plan view of a sweep, overview, range-height cut",
+     rp_cmd_picture},
+    {"score", "compare a retrieval with the truth stored in a volume", rp_cmd_score},
     {"pulses", "synthesise I/Q pulses of one gate and the statistics of their estimates", rp_cmd_pulses},
 };
 #define N_COMMANDS (sizeof commands / sizeof commands[0])
