@@ -1,5 +1,6 @@
 # help.sh — every command answers -h, --help and --version, and every example in every
-# --help runs as printed (from a scratch folder) and succeeds.
+# --help runs as printed (from a scratch folder holding a copy of the source's examples/,
+# as if run in the source folder) and succeeds.
 # Usage: bash help.sh TOOL BUILD_DIR
 source "$(dirname "${BASH_SOURCE[0]}")/../cli_common.sh" help "$@"
 rp="$(cd "$(dirname "$rp")" && pwd)/$(basename "$rp")" # the examples run from elsewhere
@@ -21,6 +22,8 @@ for c in $commands; do
     sed -e ':a' -e '/\\$/N; s/\\\n */ /; ta' >"$work/examples_$c"
   [[ -s $work/examples_$c ]] && ok || bad "$c: no example"
   mkdir -p "$work/run_$c"
+  # examples that name files of the source folder (examples/...) find a copy of them
+  [[ -d $src/examples ]] && cp -r "$src/examples" "$work/run_$c/"
   while IFS= read -r line; do
     [[ $line == rainprint\ * ]] || continue
     (cd "$work/run_$c" && eval "\"$rp\" ${line#rainprint }") >"$work/ex_out" 2>"$work/ex_err"
