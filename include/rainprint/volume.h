@@ -137,6 +137,9 @@ typedef struct {
   double dbz, zdr_db, phidp_deg, rhohv, vel_ms, width_ms, ldr_db;
   double independent_samples;
 } rp_volume_noise;
+/* Largest pulse count the noise formulas take (the scenario's limit); more are
+ * treated as this many. */
+#define RP_VOLUME_MAX_PULSES 1024
 void rp_volume_noise_std(int pulses, double prt_s, double wavelength_m, double width_ms,
                          double snr, double rhohv, double ldr, rp_volume_noise *out);
 

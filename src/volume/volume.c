@@ -87,33 +87,45 @@ double rp_volume_fold(double v_ms, double nyquist_ms) {
 
 void rp_volume_noise_std(int pulses, double prt_s, double wavelength_m, double width_ms,
                          double snr, double rhohv, double ldr, rp_volume_noise *out) {
-  const double m = (double)pulses;
+  if (pulses < 2) pulses = 2;
+  if (pulses > RP_VOLUME_MAX_PULSES) pulses = RP_VOLUME_MAX_PULSES;
+  const int mi_ = pulses, ni = pulses - 1; /* M samples, N = M - 1 lag-1 products */
+  const double m = (double)mi_, n1 = (double)ni;
   const double va = wavelength_m / (4.0 * prt_s);
   const double svn = width_ms / (2.0 * va); /* normalised spectrum width */
-  /* Gaussian spectrum: signal correlation rho_l = exp(-2 pi^2 svn^2 l^2) at lag l
-   * (Doviak & Zrnić 1993 §6.3, from memory). rho_l is built by the recursion
-   * rho_{l+1} = rho_l e^{-a (2l + 1)}, a = 2 pi^2 svn^2; the sums stop when the terms fall
-   * below 1e-15 of the leading one. */
+  /* Gaussian spectrum: signal correlation p_l = exp(-2 pi^2 svn^2 l^2) at lag l
+   * (Doviak & Zrnić 1993 §6.3, from memory), signal power 1, white noise 1/SNR at lag
+   * 0, R_l = p_l + delta_l / SNR. The noise-free parts of the sums are accumulated in one
+   * pass (p_{l+1} = p_l e^{-a (2l + 1)}, a = 2 pi^2 svn^2, stopping once p_{l-1} <
+   * 1e-17); the noise enters only at lag 0 and is added in closed form:
+   *   S   = sum_{|l|<M} (1 - |l|/M) p_l^2                       (M / S independent samples)
+   *   t1  = sum_{|l|<N} (N - |l|) R_l^2        = T1 + N (2/SNR + 1/SNR^2)
+   *   t2  = sum_{|l|<N} (N - |l|) R_{l+1} R_{1-l} = T2 + 2 (N - 1) p_2 / SNR   (N >= 2)
+   *   cpr = sum_{a<M, k<N} R_{k+1-a} R_{a-k}   = C + 2 N p_1 / SNR */
   const double a = 2.0 * M_PI * M_PI * svn * svn;
   const double inv = 1.0 / snr;
-  /* S = sum_{|l|<M} (1 - |l|/M) rho_l^2, and the pulse-pair sum
-   * T = sum_{|l|<N} (N - |l|) (R_l^2 - R_{l+1} R_{l-1}), N = M - 1, R_l = rho_l + delta_l/SNR */
-  const double n1 = m - 1.0;
-  double s = 1.0;
-  const double r0 = 1.0 + inv;
-  double rho_prev = 1.0, rho = exp(-a), step = exp(-3.0 * a); /* rho_0, rho_1, e^{-3a} */
-  const double rho1 = rho;
-  double t = n1 * (r0 * r0 - rho1 * rho1); /* l = 0 */
-  for (int l = 1; l < pulses; l++) {
-    const double rho_next = rho * step;       /* rho_{l+1} */
-    const double rl_m1 = l == 1 ? r0 : rho_prev; /* R_{l-1} */
-    s += 2.0 * (1.0 - l / m) * rho * rho;
-    if ((double)l < n1) t += 2.0 * (n1 - l) * (rho * rho - rho_next * rl_m1);
-    if (rho * rho < 1e-15 && rho_next * rl_m1 < 1e-15) break;
-    rho_prev = rho;
-    rho = rho_next;
-    step *= exp(-2.0 * a);
+  const double ea = exp(-a), e2a = ea * ea;
+  double p_prev = 1.0, p = ea, step = e2a * ea; /* p_0, p_1, e^{-3a} */
+  const double p1 = p, p2 = p * step;
+  double s = 1.0, t1 = n1, t2 = n1 * p1 * p1, cpr = n1 * p1; /* l = 0 terms (j = 0 of C) */
+  for (int l = 1; l < mi_; l++) {
+    const double p_next = p * step; /* p_{l+1} */
+    s += 2.0 * (1.0 - l / m) * p * p;
+    if (l < ni) {
+      t1 += 2.0 * (n1 - l) * p * p;
+      t2 += 2.0 * (n1 - l) * p_next * p_prev;
+      cpr += (n1 - l) * p_next * p; /* d = -l <= 0: c = N - l, R_{1+l} R_l */
+    }
+    cpr += (m - l) * p_prev * p; /* d = l >= 1: c = M - l, R_{1-l} R_l = p_{l-1} p_l */
+    if (p_prev < 1e-17) break;
+    p_prev = p;
+    p = p_next;
+    step *= e2a;
   }
+  t1 += n1 * (2.0 * inv + inv * inv);
+  if (ni >= 2) t2 += 2.0 * (n1 - 1.0) * p2 * inv;
+  cpr += 2.0 * n1 * p1 * inv;
+  const double rho1 = p1;
   const double mi = m / s;
   out->independent_samples = mi;
   const double ten_log10e = 10.0 / log(10.0);
@@ -132,17 +144,28 @@ void rp_volume_noise_std(int pulses, double prt_s, double wavelength_m, double w
   out->phidp_deg = sqrt(var_phi) / DEG;
   /* rhohv: (1 - rho^2)/sqrt(2 M_I) (B&C 2001 §6.5, from memory); noise term ours */
   out->rhohv = (1.0 - rho_hv * rho_hv) / sqrt(2.0 * mi) + inv / sqrt(m);
-  /* velocity, pulse pair: var(arg R1) = T / (2 R_1^2 N^2), the perturbation result for
-   * correlated Gaussian samples in white noise (Zrnić 1977; D&Z 1993 §6.4, from memory),
-   * v = -(lambda / (4 pi T_s)) arg R1 */
-  const double var_arg = t / (2.0 * rho1 * rho1 * n1 * n1);
-  double var_v = var_arg * pow(wavelength_m / (4.0 * M_PI * prt_s), 2.0);
-  /* an estimate cannot spread more than uniform over the Nyquist interval */
+  /* Perturbation (small-error) variances of the pulse-pair estimates for correlated
+   * Gaussian samples in white noise (Zrnić 1977; D&Z 1993 §6.4-6.5, from memory):
+   * with R1 = (1/N) sum X_k* X_{k+1},
+   *   var(arg R1) = (t1 - t2) / (2 N^2 rho_1^2),  var|R1| = (t1 + t2) / (2 N^2),
+   *   cov(P, |R1|) = cpr / (M N);
+   * velocity v = -(lambda / (4 pi T_s)) arg R1; width sigma^2 = (lambda^2 / (8 pi^2
+   * T_s^2)) ln(P / |R1|). Capped at the variance of a value spread uniformly over the
+   * Nyquist interval, v_a^2 / 3, where the linearisation fails (very narrow spectra or
+   * rho_1 -> 0). */
   const double var_max = va * va / 3.0;
+  const double kv = wavelength_m / (4.0 * M_PI * prt_s);
+  double var_v = rho1 > 0 ? kv * kv * (t1 - t2) / (2.0 * n1 * n1 * rho1 * rho1) : var_max;
   if (!(var_v < var_max)) var_v = var_max;
   out->vel_ms = sqrt(var_v);
-  /* width: our own approximation, sigma/sigma_v = (1 + 1/SNR) / sqrt(2 M_I) */
-  out->width_ms = width_ms * (1.0 + inv) / sqrt(2.0 * mi);
+  const double var_ln = rho1 > 0 ? var_p + (t1 + t2) / (2.0 * n1 * n1 * rho1 * rho1) -
+                                       2.0 * cpr / (m * n1 * rho1)
+                                 : (double)INFINITY;
+  const double kw = wavelength_m * wavelength_m / (8.0 * M_PI * M_PI * prt_s * prt_s);
+  const double sw = width_ms > 1e-3 ? width_ms : 1e-3;
+  double var_w = kw * kw * var_ln / (4.0 * sw * sw);
+  if (!(var_w < var_max)) var_w = var_max;
+  out->width_ms = sqrt(var_w);
   /* LDR: power ratio of two uncorrelated channels */
   const double invx = ldr > 0 ? inv / ldr : 1e6;
   out->ldr_db = ten_log10e * sqrt(((1 + invx) * (1 + invx) + (1 + inv) * (1 + inv)) / mi);
