@@ -1,4 +1,5 @@
-/* cmd_drop.c — `rainprint drop`: scattering of one drop. */
+/* cmd_drop.c — `rainprint drop`: scattering of one drop (rp_drop_eval, cross-sections by
+ * rp_drop_cross_sections; nothing computed here). */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -45,15 +46,15 @@ static void print_text(const rp_cli_scatter *s, const rp_drop_result *r) {
   print_complex("backscatter f_hv(pi)", r->back_hv_mm, "mm");
   print_complex("forward f_hh(0)", r->fwd_hh_mm, "mm");
   print_complex("forward f_vv(0)", r->fwd_vv_mm, "mm");
-  const double s_hh = 4.0 * M_PI * r->avg.back_hh2_mm2, s_vv = 4.0 * M_PI * r->avg.back_vv2_mm2;
-  const double s_hv = 4.0 * M_PI * r->avg.back_hv2_mm2;
+  rp_drop_xsec x;
+  rp_drop_cross_sections(r, &x);
   printf("Canting-averaged cross-sections:\n");
-  printf("  sigma_hh                 %.6e mm^2\n", s_hh);
-  printf("  sigma_vv                 %.6e mm^2\n", s_vv);
-  printf("  sigma_hv                 %.6e mm^2\n", s_hv);
-  printf("  extinction h             %.6e mm^2\n", 2.0 * r->wavelength_mm * cimag(r->avg.fwd_hh_mm));
-  printf("  extinction v             %.6e mm^2\n", 2.0 * r->wavelength_mm * cimag(r->avg.fwd_vv_mm));
-  printf("  single-drop ZDR          %.4f dB\n", 10.0 * log10(s_hh / s_vv));
+  printf("  sigma_hh                 %.6e mm^2\n", x.sigma_hh_mm2);
+  printf("  sigma_vv                 %.6e mm^2\n", x.sigma_vv_mm2);
+  printf("  sigma_hv                 %.6e mm^2\n", x.sigma_hv_mm2);
+  printf("  extinction h             %.6e mm^2\n", x.ext_h_mm2);
+  printf("  extinction v             %.6e mm^2\n", x.ext_v_mm2);
+  printf("  single-drop ZDR          %.4f dB\n", x.zdr_db);
 }
 
 static int print_json(const rp_cli_scatter *s, const rp_drop_result *r) {
@@ -81,11 +82,13 @@ static int print_json(const rp_cli_scatter *s, const rp_drop_result *r) {
   json_object_set_new(o, "back_hv_mm", rp_json_complex(r->back_hv_mm));
   json_object_set_new(o, "fwd_hh_mm", rp_json_complex(r->fwd_hh_mm));
   json_object_set_new(o, "fwd_vv_mm", rp_json_complex(r->fwd_vv_mm));
-  json_object_set_new(o, "sigma_hh_mm2", rp_json_real(4.0 * M_PI * r->avg.back_hh2_mm2));
-  json_object_set_new(o, "sigma_vv_mm2", rp_json_real(4.0 * M_PI * r->avg.back_vv2_mm2));
-  json_object_set_new(o, "sigma_hv_mm2", rp_json_real(4.0 * M_PI * r->avg.back_hv2_mm2));
-  json_object_set_new(o, "ext_h_mm2", rp_json_real(2.0 * r->wavelength_mm * cimag(r->avg.fwd_hh_mm)));
-  json_object_set_new(o, "ext_v_mm2", rp_json_real(2.0 * r->wavelength_mm * cimag(r->avg.fwd_vv_mm)));
+  rp_drop_xsec x;
+  rp_drop_cross_sections(r, &x);
+  json_object_set_new(o, "sigma_hh_mm2", rp_json_real(x.sigma_hh_mm2));
+  json_object_set_new(o, "sigma_vv_mm2", rp_json_real(x.sigma_vv_mm2));
+  json_object_set_new(o, "sigma_hv_mm2", rp_json_real(x.sigma_hv_mm2));
+  json_object_set_new(o, "ext_h_mm2", rp_json_real(x.ext_h_mm2));
+  json_object_set_new(o, "ext_v_mm2", rp_json_real(x.ext_v_mm2));
   return rp_json_print(o);
 }
 
