@@ -84,7 +84,9 @@ typedef struct {
   bool noise;
 } rp_scenario;
 
-/* Defaults (docs/scenario.md): an invented C-band radar at the origin, 1 km gates... */
+/* Defaults of docs/scenario.md: C band, 1 deg beam, 400 gates of 250 m, one sweep at
+ * 0.5 deg, 1 deg rays, PRF 1000 Hz, 64 pulses, -5 dBZ at 10 km, 20 C and 6.5 C/km, no
+ * rain, no wind, seed 1, beam centre only, 9-gate KDP window, noise on. NULL: no-op. */
 void rp_scenario_default(rp_scenario *s);
 
 /* Validate every value. On failure returns RP_EINVAL with "key.path: value ...: reason"
