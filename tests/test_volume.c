@@ -471,6 +471,9 @@ static void test_bad_scenarios_are_refused_with_the_key(void **state) {
   bad.eval = failing_eval;
   assert_int_equal(rp_volume_synthesize(&s, &bad, &o, &v, &e), RP_EDOM);
   assert_non_null(strstr(e.msg, "sweep 0"));
+  assert_non_null(strstr(e.msg, "ray 0"));
+  assert_non_null(strstr(e.msg, "gate 0"));
+  assert_non_null(strstr(e.msg, "fake evaluator refuses"));
   assert_null(v);
   s.radar.gate_spacing_m = -1;
   assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, &e), RP_EINVAL);

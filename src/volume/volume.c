@@ -214,7 +214,8 @@ typedef struct {
   double fl_m, dr_km, sigma_b_rad, prt_s, va, lambda, rot_rad_s;
 } ray_job;
 
-/* a += w b (beam-filling sums; radar_model.h offers the same once it is linked) */
+/* a += w b (beam-filling sums; the same as rp_gate_linear_axpy of radar_model.h, kept
+ * here so that the synthesis needs gate.h alone) */
 static void lin_axpy(double w, const rp_gate_linear *b, rp_gate_linear *a) {
   a->zh_mm6_m3 += w * b->zh_mm6_m3;
   a->zv_mm6_m3 += w * b->zv_mm6_m3;
@@ -271,8 +272,13 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, rp_er
     rp_gate_linear lin;
     memset(&lin, 0, sizeof lin);
     if (nb == 1) {
-      if (flag == RP_GATE_RAIN)
-        RP_TRY(j->p->eval(j->p->ctx, j->sweep, tc, nw, d0, mu, &lin, err));
+      if (flag == RP_GATE_RAIN) {
+        const rp_status st = j->p->eval(j->p->ctx, j->sweep, tc, nw, d0, mu, &lin, err);
+        if (st != RP_OK) {
+          rp_error_prefix(err, "gate %zu (%.0f m): ", gi, v->range_m[gi]);
+          return st;
+        }
+      }
     } else if (flag != RP_GATE_ABOVE_FREEZING) {
       /* a gate whose centre is above the freezing level stays without rain even when
        * the lower part of the beam is below it (the gate is flagged, never rain) */
@@ -286,7 +292,11 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, rp_er
           double nwk, d0k, muk;
           if (!rp_scenario_dsd_at(s, xk, yk, &nwk, &d0k, &muk)) continue;
           rp_gate_linear lk;
-          RP_TRY(j->p->eval(j->p->ctx, j->sweep, g->temp_c[kix], nwk, d0k, muk, &lk, err));
+          const rp_status st = j->p->eval(j->p->ctx, j->sweep, g->temp_c[kix], nwk, d0k, muk, &lk, err);
+          if (st != RP_OK) {
+            rp_error_prefix(err, "gate %zu (%.0f m), beam sample %d,%d: ", gi, v->range_m[gi], ke, ka);
+            return st;
+          }
           lin_axpy(g->w[ke] * g->w[ka], &lk, &lin);
         }
       }
