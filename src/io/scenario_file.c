@@ -6,7 +6,9 @@
  * positions from libcyaml);
  * (2) a libyaml event pass that records the line of every key path
  * ("rain.cells[1].d0_mm"), so that (3) the validation of rp_scenario_check, which names
- * the key path, can add the line. Absent keys keep the defaults of rp_scenario_default.
+ * the key path, can add the line, and which also checks that the items of the numeric
+ * list elevations_deg are plain decimals (the shared scan checks values of numeric keys,
+ * not list items). Absent keys keep the defaults of rp_scenario_default.
  * Invariants: every failure is RP_EPARSE (or RP_EIO / RP_ENOMEM) naming the file. */
 #include "rainprint/scenario_file.h"
 
@@ -18,6 +20,7 @@
 #include <cyaml/cyaml.h>
 #include <yaml.h>
 
+#include "io/decimal.h"
 #include "io/text_rules.h"
 #include "io/yaml_check.h"
 #include "rainprint/drop.h"
@@ -187,7 +190,8 @@ static const char *const numeric_keys[] = {
 
 typedef struct {
   char path[96];
-  unsigned line;
+  unsigned line, column;
+  char text[64]; /* the scalar of a sequence item ("" otherwise) */
 } key_line;
 
 typedef struct {
@@ -195,7 +199,8 @@ typedef struct {
   size_t n, cap;
 } key_lines;
 
-static void add_line(key_lines *kl, const char *path, unsigned line) {
+static void add_line(key_lines *kl, const char *path, unsigned line, unsigned column,
+                     const char *text) {
   if (kl->n == kl->cap) {
     const size_t nc = kl->cap ? 2 * kl->cap : 64;
     key_line *nv = realloc(kl->v, nc * sizeof *nv);
@@ -205,6 +210,8 @@ static void add_line(key_lines *kl, const char *path, unsigned line) {
   }
   snprintf(kl->v[kl->n].path, sizeof kl->v[kl->n].path, "%s", path);
   kl->v[kl->n].line = line;
+  kl->v[kl->n].column = column;
+  snprintf(kl->v[kl->n].text, sizeof kl->v[kl->n].text, "%s", text != NULL ? text : "");
   kl->n++;
 }
 
@@ -234,7 +241,8 @@ static void scan_lines(const char *data, size_t n, key_lines *kl) {
     /* items of a sequence get their own path ("rain.cells[1]") */
     if (depth >= 0 && st[depth].is_seq &&
         (t == YAML_MAPPING_START_EVENT || t == YAML_SEQUENCE_START_EVENT || t == YAML_SCALAR_EVENT))
-      add_line(kl, here, (unsigned)e.start_mark.line + 1);
+      add_line(kl, here, (unsigned)e.start_mark.line + 1, (unsigned)e.start_mark.column + 1,
+               t == YAML_SCALAR_EVENT ? (const char *)e.data.scalar.value : NULL);
     if (t == YAML_MAPPING_START_EVENT || t == YAML_SEQUENCE_START_EVENT) {
       if (depth + 1 < 16) {
         depth++;
@@ -256,7 +264,7 @@ static void scan_lines(const char *data, size_t n, key_lines *kl) {
           snprintf(pending, sizeof pending, "%.60s.%.30s", st[depth].prefix, key);
         else
           snprintf(pending, sizeof pending, "%.60s", key);
-        add_line(kl, pending, (unsigned)e.start_mark.line + 1);
+        add_line(kl, pending, (unsigned)e.start_mark.line + 1, (unsigned)e.start_mark.column + 1, NULL);
         st[depth].expect_key = 0;
       } else if (st[depth].is_seq) {
         st[depth].index++;
@@ -268,6 +276,21 @@ static void scan_lines(const char *data, size_t n, key_lines *kl) {
     if (t == YAML_STREAM_END_EVENT) break;
   }
   yaml_parser_delete(&p);
+}
+
+/* The numbers of the one numeric list (radar.elevations_deg) must be plain decimals too:
+ * the shared pre-scan checks scalars under numeric keys but not the items of a list,
+ * and libcyaml would read "1.5deg" as 1.5 and "0x10" as 16. */
+static rp_status check_list_numbers(const key_lines *kl, const char *path, rp_error *err) {
+  static const char prefix[] = "radar.elevations_deg[";
+  for (size_t i = 0; i < kl->n; i++) {
+    if (strncmp(kl->v[i].path, prefix, sizeof prefix - 1) != 0) continue;
+    double x;
+    if (rp_decimal_parse(kl->v[i].text, &x) != RP_DECIMAL_OK)
+      return rp_error_set(err, RP_EPARSE, "%s:%u:%u: %s: '%s' is not a plain decimal number",
+                          path, kl->v[i].line, kl->v[i].column, kl->v[i].path, kl->v[i].text);
+  }
+  return RP_OK;
 }
 
 /* line of key path (or of its longest recorded prefix); 0 when unknown */
@@ -481,21 +504,23 @@ rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_sc
     return st;
   }
   const scen_doc *d = raw;
-  rp_scenario *s = malloc(sizeof *s);
+  key_lines kl = {NULL, 0, 0};
+  scan_lines(data, n, &kl);
+  st = check_list_numbers(&kl, path, err);
+  rp_scenario *s = st == RP_OK ? malloc(sizeof *s) : NULL;
   if (s == NULL) {
     rp_yaml_free(&doc_schema, raw);
     free(data);
-    return rp_error_set(err, RP_ENOMEM, "%s: out of memory", path);
+    free(kl.v);
+    return st != RP_OK ? st : rp_error_set(err, RP_ENOMEM, "%s: out of memory", path);
   }
   char key[96] = "";
   rp_error e2 = {0};
   st = fill(d, path, presets_dir, s, key, sizeof key, &e2);
   rp_yaml_free(&doc_schema, raw);
+  const unsigned line = st != RP_OK && key[0] != '\0' ? line_of(&kl, key) : 0;
+  free(kl.v);
   if (st != RP_OK) {
-    key_lines kl = {NULL, 0, 0};
-    scan_lines(data, n, &kl);
-    const unsigned line = key[0] != '\0' ? line_of(&kl, key) : 0;
-    free(kl.v);
     free(s);
     free(data);
     if (line > 0) return rp_error_set(err, st, "%s:%u: %s", path, line, e2.msg);
