@@ -45,7 +45,7 @@ static const char GOOD[] =
 
 static void test_examples_load(void **state) {
   (void)state;
-  const char *ex[3] = {"examples/squall-line-c/scene.yaml", "examples/shadow-cell-x/scene.yaml",
+  const char *ex[3] = {"examples/valley-squall-line/scene.yaml", "examples/shadow-cell-x/scene.yaml",
                        "examples/drizzle-s/scene.yaml"};
   for (int i = 0; i < 3; i++) {
     char p[512];
