@@ -98,7 +98,7 @@ typedef struct {
   size_t rain_gates;      /* with rain in the beam */
   size_t observed_gates;  /* with DBZ above sensitivity */
   double max_pia_db;      /* largest two-way path-integrated attenuation of Zh */
-  double max_phidp_deg;   /* largest observed-free PhiDP (offset + 2∫KDP + delta) */
+  double max_phidp_deg;   /* largest noise-free PhiDP (offset + 2∫KDP + delta_hv) */
   double seconds;         /* wall time of the synthesis */
 } rp_volume_summary;
 
