@@ -107,4 +107,19 @@ rp_status rp_volume_file_read_rhi(const rp_volume_reader *r, const char *name,
                                   double azimuth_deg, rp_volume_cut *out, rp_error *err);
 void rp_volume_cut_free(rp_volume_cut *c); /* NULL ok; frees the arrays, not c */
 
+/* What a volume file says about itself, for titles: the instrument's name (global
+ * attribute instrument_name), the band letter of the frequency (rp_band_of_frequency;
+ * "" when none), the frequency (GHz, from instrument_parameters `frequency`), the
+ * start time (time_coverage_start) and the Nyquist velocity of the first ray (m/s).
+ * Missing items are "" or NaN (files of other programs). */
+typedef struct {
+  char instrument_name[128];
+  char band[8];
+  double frequency_ghz;
+  char time_coverage_start[40];
+  double nyquist_ms;
+} rp_volume_file_meta;
+
+void rp_volume_file_get_meta(const rp_volume_reader *r, rp_volume_file_meta *out);
+
 #endif

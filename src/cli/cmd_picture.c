@@ -285,9 +285,16 @@ int rp_cmd_picture(int argc, char **argv) {
     rp_volume_file_close(r);
     return rp_cli_fail_err(CMD, &err);
   }
-  const double nyquist = (double)NAN; /* velocity range from the data */
-  char title[256], subtitle[256];
-  snprintf(title, sizeof title, "rainprint volume");
+  rp_volume_file_meta meta;
+  rp_volume_file_get_meta(r, &meta);
+  const double nyquist = meta.nyquist_ms; /* NaN: the velocity range from the data */
+  char title[256], subtitle[256], freq[48] = "";
+  if (meta.band[0])
+    snprintf(freq, sizeof freq, ", %s band (%.4g GHz)", meta.band, meta.frequency_ghz);
+  else if (isfinite(meta.frequency_ghz))
+    snprintf(freq, sizeof freq, ", %.4g GHz", meta.frequency_ghz);
+  snprintf(title, sizeof title, "%s%s%s%s", meta.instrument_name[0] ? meta.instrument_name : "volume",
+           freq, meta.time_coverage_start[0] ? ", " : "", meta.time_coverage_start);
   const char *src = strrchr(path, '/') ? strrchr(path, '/') + 1 : path;
 
   if (rp_opts_given(&o, "rhi")) {

@@ -21,6 +21,7 @@
 
 #include "io/ncheck.h"
 #include "io/tempfile.h"
+#include "rainprint/drop.h"
 #include "rainprint/beam.h"
 #include "rainprint/version.h"
 
@@ -712,4 +713,48 @@ rp_status rp_volume_file_read_rhi(const rp_volume_reader *r, const char *name,
   }
   cut_geometry(out);
   return RP_OK;
+}
+
+void rp_volume_file_get_meta(const rp_volume_reader *r, rp_volume_file_meta *out) {
+  memset(out, 0, sizeof *out);
+  out->frequency_ghz = (double)NAN;
+  out->nyquist_ms = (double)NAN;
+  if (r == NULL || r->nc < 0) return;
+  rp_error ignored = {0};
+  if (rp_nc_get_text(r->nc, NC_GLOBAL, "instrument_name", out->instrument_name,
+                     sizeof out->instrument_name, r->path, RP_EPARSE, &ignored) != RP_OK)
+    out->instrument_name[0] = '\0';
+  int id;
+  float f;
+  if (nc_inq_varid(r->nc, "frequency", &id) == NC_NOERR && nc_get_var_float(r->nc, id, &f) == NC_NOERR &&
+      isfinite(f) && f > 0.0f) {
+    out->frequency_ghz = 1e-9 * (double)f;
+    const char *b = rp_band_of_frequency(out->frequency_ghz);
+    if (b == NULL) /* stored as float: compare to the band centres within float precision */
+      for (const char *const *c = (const char *const[]){"S", "C", "X", "Ku", "Ka", NULL}; *c; c++) {
+        double fc;
+        if (rp_band_frequency_ghz(*c, &fc, NULL) == RP_OK && fabs(fc - out->frequency_ghz) < 1e-6 * fc)
+          b = *c;
+      }
+    if (b != NULL) snprintf(out->band, sizeof out->band, "%s", b);
+  }
+  size_t len;
+  if (nc_inq_varid(r->nc, "time_coverage_start", &id) == NC_NOERR) {
+    int dims[NC_MAX_VAR_DIMS], nd;
+    if (nc_inq_varndims(r->nc, id, &nd) == NC_NOERR && nd == 1 &&
+        nc_inq_vardimid(r->nc, id, dims) == NC_NOERR && nc_inq_dimlen(r->nc, dims[0], &len) == NC_NOERR &&
+        len < sizeof out->time_coverage_start &&
+        nc_get_var_text(r->nc, id, out->time_coverage_start) == NC_NOERR)
+      out->time_coverage_start[len] = '\0';
+    else
+      out->time_coverage_start[0] = '\0';
+    /* text variables are padded with NULs or blanks */
+    for (size_t k = strlen(out->time_coverage_start); k > 0 && out->time_coverage_start[k - 1] == ' '; k--)
+      out->time_coverage_start[k - 1] = '\0';
+  }
+  if (nc_inq_varid(r->nc, "nyquist_velocity", &id) == NC_NOERR) {
+    const size_t start = 0, count = 1;
+    if (nc_get_vara_float(r->nc, id, &start, &count, &f) == NC_NOERR && isfinite(f) && f > 0.0f)
+      out->nyquist_ms = (double)f;
+  }
 }
