@@ -26,7 +26,7 @@
 #include "cli/progress.h"
 #include "rainprint/dsd_vary.h"
 #include "rainprint/field.h"
-#include "rainprint/plot.h"
+#include "rainprint/figure.h"
 #include "rainprint/shape.h"
 
 #define CMD "curve"
@@ -344,14 +344,16 @@ static void base_title(const curve_opts *c, const rp_gate_request *req,
     snprintf(buf, n, "%s", base->label);
 }
 
+/* The picture, drawn to a checked temporary file beside the destination (tmp); the
+ * caller commits it after the CSV (see emit). */
 static int write_plot(const curve_opts *c, const rp_gate_request *req,
                       const rp_cli_dsd_built *base, const double *x,
-                      const rp_gate_run_result *res) {
+                      const rp_gate_run_result *res, char *tmp, size_t tmp_len) {
   const size_t n = (size_t)c->steps, nb = (size_t)req->n_bands;
   const size_t nv = (size_t)c->n_vars;
   double *y = malloc(nv * nb * n * sizeof *y);
-  rp_plot_series *series = malloc(nv * nb * sizeof *series);
-  rp_plot_panel *panels = calloc(nv, sizeof *panels);
+  rp_figure_series *series = malloc(nv * nb * sizeof *series);
+  rp_figure_panel *panels = calloc(nv, sizeof *panels);
   char(*labels)[32] = malloc(nb * sizeof *labels);
   if (y == NULL || series == NULL || panels == NULL || labels == NULL) {
     free(y);
@@ -360,14 +362,25 @@ static int write_plot(const curve_opts *c, const rp_gate_request *req,
     free(labels);
     return rp_cli_fail(CMD, RP_ENOMEM, "out of memory for the picture");
   }
-  char base_txt[352], title[420];
+  char base_txt[352], title[420], subtitle[420], bands[160] = "";
   base_title(c, req, base, base_txt, sizeof base_txt);
   for (size_t b = 0; b < nb; b++) {
     if (req->band[b] != NULL)
       snprintf(labels[b], sizeof labels[b], "%s band", req->band[b]);
     else
       snprintf(labels[b], sizeof labels[b], "%.4g GHz", req->freq_ghz[b]);
+    const size_t used = strlen(bands);
+    snprintf(bands + used, sizeof bands - used, "%s%s (%.4g GHz)", b ? ", " : "",
+             req->band[b] ? req->band[b] : "f", req->freq_ghz[b]);
   }
+  const rp_drop_config *g = &req->cfg;
+  snprintf(title, sizeof title, "%s against %s", base_txt, VARY[c->vary].name);
+  snprintf(subtitle, sizeof subtitle,
+           "%s; shape %s, %s canting SD %.3g°, elevation %.3g°, %s, |K#dw#u|#u2#d %.3g; "
+           "rainprint curve", bands,
+           g->axis_ratio_fixed > 0.0 ? "fixed" : rp_shape_name(g->shape),
+           rp_canting_model_name(g->canting_model), g->canting_sd_deg, g->elevation_deg,
+           rp_method_name(g->method), req->kw2);
   for (size_t p = 0; p < nv; p++) {
     const rp_field_id pv = c->vars[p];
     const rp_field_desc *fd = rp_field_get(pv);
@@ -379,36 +392,38 @@ static int write_plot(const curve_opts *c, const rp_gate_request *req,
       double *yy = y + (p * nb + b) * n;
       for (size_t i = 0; i < n; i++) {
         yy[i] = rp_field_value(pv, &res[i].r[b], &res[i].moments);
-        if (!(yy[i] > 0.0)) all_positive = 0;
+        /* the LDR floor stands for "no cross-polar power": missing, not data */
+        if (pv == RP_FIELD_LDR && !(yy[i] > RP_LDR_FLOOR_DB)) yy[i] = (double)NAN;
+        if (isfinite(yy[i]) && !(yy[i] > 0.0)) all_positive = 0;
       }
-      rp_plot_series *s = &series[p * nb + b];
-      s->label = dsd_field ? "all bands" : labels[b];
-      s->x = x;
-      s->y = yy;
-      s->n = n;
-      s->style = n <= 30 ? RP_PLOT_LINE_MARKERS : RP_PLOT_LINE;
+      rp_figure_series *sr = &series[p * nb + b];
+      sr->label = dsd_field ? "all bands" : labels[b];
+      sr->x = x;
+      sr->y = yy;
+      sr->n = n;
+      sr->style = n <= 30 ? RP_FIGURE_STYLE_LINE_MARKERS : RP_FIGURE_STYLE_LINE;
     }
-    rp_plot_panel *pan = &panels[p];
-    if (p == 0) snprintf(title, sizeof title, "%s: %s", base_txt, fd->long_name);
-    pan->title = p == 0 ? title : fd->long_name;
+    rp_figure_panel *pan = &panels[p];
+    pan->kind = RP_FIGURE_LINES;
+    pan->title = fd->long_name;
     pan->xlabel = VARY[c->vary].xlabel;
     pan->ylabel = fd->plot_label;
-    pan->series = &series[p * nb];
-    pan->n_series = ns;
-    pan->log_x = c->log;
-    pan->log_y = c->log && fd->extensive && all_positive;
+    pan->xy.series = &series[p * nb];
+    pan->xy.n_series = ns;
+    pan->xy.log_x = c->log;
+    pan->xy.log_y = c->log && fd->extensive && all_positive;
   }
   /* Up to 3 panels side by side; 4 as 2 x 2; more in rows of 3. */
   const int ncols = nv <= 3 ? (int)nv : (nv == 4 ? 2 : 3);
   const int nrows = (int)((nv + (size_t)ncols - 1) / (size_t)ncols);
+  rp_figure fig = {title, subtitle, panels, nv, ncols, 560 * ncols, 480 * nrows + 60};
   rp_error err = {0};
-  const rp_status s =
-      rp_plot_panels(c->plot_path, panels, nv, ncols, 560 * ncols, 480 * nrows, &err);
+  const rp_status st = rp_figure_draw_temp(c->plot_path, &fig, tmp, tmp_len, &err);
   free(y);
   free(series);
   free(panels);
   free(labels);
-  if (s != RP_OK) return rp_cli_fail(CMD, s, "--plot: %s", err.msg);
+  if (st != RP_OK) return rp_cli_fail(CMD, st, "--plot: %s", err.msg);
   return 0;
 }
 
@@ -521,11 +536,25 @@ static int emit(const curve_opts *c, const rp_gate_request *req, const rp_cli_ds
     write_csv(f, c, req, x, res);
     if ((rc = close_temp(f, tmp, c->csv_path))) return rc;
   }
-  if (c->plot_path != NULL && (rc = write_plot(c, req, base, x, res))) {
+  /* Both outputs are complete in temporary files before either is renamed; then the CSV
+   * (the data) is renamed first and the picture of it last, so a kill between the two
+   * renames leaves new data beside the old picture, never a picture of data that was not
+   * written. A failure before the renames leaves both old outputs as they were. */
+  char plot_tmp[4096] = "";
+  if (c->plot_path != NULL &&
+      (rc = write_plot(c, req, base, x, res, plot_tmp, sizeof plot_tmp))) {
     if (c->csv_path != NULL) unlink(tmp);
     return rc;
   }
-  if (c->csv_path != NULL && (rc = rp_cli_temp_commit(CMD, "csv", tmp, c->csv_path))) return rc;
+  if (c->csv_path != NULL && (rc = rp_cli_temp_commit(CMD, "csv", tmp, c->csv_path))) {
+    if (plot_tmp[0]) rp_figure_discard(plot_tmp);
+    return rc;
+  }
+  if (plot_tmp[0]) {
+    rp_error err = {0};
+    if (rp_figure_commit(plot_tmp, c->plot_path, &err) != RP_OK)
+      return rp_cli_fail(CMD, err.status, "--plot: %s", err.msg);
+  }
   if (json) return rp_json_print(curve_json(c, req, base, x, res));
   if (c->csv_path == NULL) {
     write_csv(stdout, c, req, x, res); /* a failed write is caught in main() */

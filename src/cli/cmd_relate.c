@@ -10,7 +10,7 @@
 #include "cli/cli.h"
 #include "rainprint/names.h"
 #include "rainprint/radar_model.h"
-#include "rainprint/plot.h"
+#include "rainprint/figure.h"
 #include "rainprint/relate.h"
 #include "rainprint/shape.h"
 #include "rainprint/table.h"
@@ -91,7 +91,7 @@ static const rp_opts_command relate_cmd = {
 };
 
 #define ENSEMBLE_MAX 2000000L
-#define PLOT_MAX_POINTS 1500
+#define PLOT_MAX_POINTS 1500 /* markers per held-out series */
 
 typedef struct {
   rp_cli_scatter s;
@@ -248,6 +248,9 @@ typedef struct {
 
 #define CURVE_POINTS 100
 
+/* The samples of relation f that pass its thresholds: every fit sample (a density
+ * picture draws them all), the held-out ones thinned to about PLOT_MAX_POINTS for the
+ * marker panels, and the fitted curve over the fit samples' range. */
 static int collect(const relate_state *st, const rp_relate_options *o, const rp_relate_fit *f,
                    panel_data *pd) {
   size_t n_pass = 0;
@@ -256,7 +259,7 @@ static int collect(const relate_state *st, const rp_relate_options *o, const rp_
     n_pass += (size_t)rp_relate_sample_values(f->id, &st->samples[i], o, &x1, &x2, &y);
   }
   const size_t stride = n_pass > PLOT_MAX_POINTS ? (n_pass + PLOT_MAX_POINTS - 1) / PLOT_MAX_POINTS : 1;
-  const size_t cap = n_pass / stride + 2;
+  const size_t cap = n_pass + 2;
   pd->x = malloc(cap * sizeof(double));
   pd->y = malloc(cap * sizeof(double));
   pd->ex = malloc(cap * sizeof(double));
@@ -271,8 +274,8 @@ static int collect(const relate_state *st, const rp_relate_options *o, const rp_
     if (!rp_relate_sample_values(f->id, &st->samples[i], o, &x1, &x2, &y)) continue;
     xmin = fmin(xmin, x1);
     xmax = fmax(xmax, x1);
-    if (k++ % stride != 0) continue;
     if (rp_fit_is_held_out(st->samples[i].index)) {
+      if (k++ % stride != 0) continue;
       pd->ex[pd->ne] = y;
       pd->ey[pd->ne++] = rp_fit_power_eval(&f->fit, x1, x2);
     } else {
@@ -291,13 +294,17 @@ static int collect(const relate_state *st, const rp_relate_options *o, const rp_
   return 0;
 }
 
-static int write_plot(const relate_args *a, const relate_state *st) {
+/* The picture, drawn to a checked temporary file beside the destination (tmp); the
+ * caller commits it after the CSV. */
+static int write_plot(const relate_args *a, const relate_state *st, char *tmp, size_t tmp_len) {
   panel_data pd[RP_REL_COUNT];
   memset(pd, 0, sizeof pd);
-  rp_plot_panel panels[RP_REL_COUNT + 1];
-  rp_plot_series series[RP_REL_COUNT][2];
-  rp_plot_series onetoone[RP_REL_COUNT];
-  char titles[RP_REL_COUNT][96], xlabels[RP_REL_COUNT][64], ylabels[RP_REL_COUNT][64];
+  rp_figure_panel panels[RP_REL_COUNT + 1];
+  rp_figure_series series[RP_REL_COUNT][2];
+  rp_figure_series onetoone[RP_REL_COUNT];
+  char titles[RP_REL_COUNT][96], subs[RP_REL_COUNT][96], xlabels[RP_REL_COUNT][64],
+      ylabels[RP_REL_COUNT][64];
+  memset(panels, 0, sizeof panels);
   size_t np = 0, n11 = 0;
   int rc = 0;
   for (size_t k = 0; k < st->n_fits && rc == 0; k++) {
@@ -307,29 +314,32 @@ static int write_plot(const relate_args *a, const relate_state *st) {
       rc = rp_cli_fail("relate", RP_ENOMEM, "out of memory for the picture");
       break;
     }
-    rp_plot_panel *p = &panels[np++];
-    memset(p, 0, sizeof *p);
-    p->log_x = p->log_y = 1;
+    rp_figure_panel *p = &panels[np++];
+    p->kind = RP_FIGURE_SCATTER; /* the first series becomes a density when large */
+    p->xy.log_x = p->xy.log_y = 1;
+    snprintf(subs[k], sizeof subs[k], "n_fit %zu, held out %zu: bias %.1f %%, FSE %.1f %%",
+             f->fit.n_fit, f->n_held, f->skill.bias_pct, f->skill.fse_pct);
+    p->subtitle = subs[k];
     if (in->x2 == NULL) {
       snprintf(titles[k], sizeof titles[k], "%s: a = %.4g, b = %.4g", in->name, f->fit.a, f->fit.b);
-      series[k][0] = (rp_plot_series){"fit samples", pd[k].x, pd[k].y, pd[k].n, RP_PLOT_MARKERS};
-      series[k][1] = (rp_plot_series){"fitted", pd[k].cx, pd[k].cy, pd[k].nc, RP_PLOT_LINE};
+      series[k][0] = (rp_figure_series){"fit samples", pd[k].x, pd[k].y, pd[k].n, RP_FIGURE_STYLE_MARKERS};
+      series[k][1] = (rp_figure_series){"fitted", pd[k].cx, pd[k].cy, pd[k].nc, RP_FIGURE_STYLE_LINE};
       p->xlabel = axis_label(in->x1);
       p->ylabel = axis_label(in->y);
-      p->n_series = 2;
+      p->xy.n_series = 2;
     } else {
       snprintf(titles[k], sizeof titles[k], "%s: a = %.4g, b = %.4g, c = %.4g", in->name,
                f->fit.a, f->fit.b, f->fit.c);
-      series[k][0] = (rp_plot_series){"held out", pd[k].ex, pd[k].ey, pd[k].ne, RP_PLOT_MARKERS};
+      series[k][0] = (rp_figure_series){"held out", pd[k].ex, pd[k].ey, pd[k].ne, RP_FIGURE_STYLE_MARKERS};
       snprintf(xlabels[k], sizeof xlabels[k], "true %s", axis_label(in->y));
       snprintf(ylabels[k], sizeof ylabels[k], "fitted %s", axis_label(in->y));
       p->xlabel = xlabels[k];
       p->ylabel = ylabels[k];
-      p->n_series = 1;
-      p->equal_axes_with_diagonal = 1;
+      p->xy.n_series = 1;
+      p->xy.one_to_one = 1;
     }
     p->title = titles[k];
-    p->series = series[k];
+    p->xy.series = series[k];
   }
   if (rc == 0) {
     /* 1:1 panel of fitted vs true on the held-out samples: every relation for R if any
@@ -341,18 +351,45 @@ static int write_plot(const relate_args *a, const relate_state *st) {
     for (size_t k = 0; k < st->n_fits; k++) {
       const rp_relate_info *in = rp_relate_info_get(st->fits[k].id);
       if (strcmp(in->y, yvar) != 0) continue;
-      onetoone[n11++] = (rp_plot_series){in->name, pd[k].ex, pd[k].ey, pd[k].ne, RP_PLOT_MARKERS};
+      onetoone[n11++] = (rp_figure_series){in->name, pd[k].ex, pd[k].ey, pd[k].ne, RP_FIGURE_STYLE_MARKERS};
     }
     char title11[64], xl[64], yl[64];
     snprintf(title11, sizeof title11, "held-out samples: fitted vs true %s", yvar);
     snprintf(xl, sizeof xl, "true %s", axis_label(yvar));
     snprintf(yl, sizeof yl, "fitted %s", axis_label(yvar));
-    panels[np++] = (rp_plot_panel){title11, xl, yl, onetoone, n11, 1, 1, 1};
+    rp_figure_panel *p = &panels[np++];
+    p->kind = RP_FIGURE_LINES;
+    p->title = title11;
+    p->xlabel = xl;
+    p->ylabel = yl;
+    p->xy.series = onetoone;
+    p->xy.n_series = n11;
+    p->xy.log_x = p->xy.log_y = 1;
+    p->xy.one_to_one = 1;
+    /* the figure says what it shows: band, frequency, temperature and where the DSDs came from */
+    const rp_drop_config *c = &a->s.cfg;
+    const char *b = rp_band_of_frequency(c->freq_ghz);
+    char title[200], source[200], subtitle[520];
+    if (b)
+      snprintf(title, sizeof title, "Rain relations at %s band (%.4g GHz), %.3g °C", b, c->freq_ghz, c->temp_c);
+    else
+      snprintf(title, sizeof title, "Rain relations at %.4g GHz, %.3g °C", c->freq_ghz, c->temp_c);
+    if (a->spectra)
+      snprintf(source, sizeof source, "%zu disdrometer spectra from %s", st->n,
+               strrchr(a->spectra, '/') ? strrchr(a->spectra, '/') + 1 : a->spectra);
+    else
+      snprintf(source, sizeof source, "%zu DSDs of climate '%s' (seed %ld)", st->n, st->climate.name,
+               a->seed);
+    snprintf(subtitle, sizeof subtitle, "%s; shape %s, %s canting SD %.3g°; fits on 3 of 4 samples, "
+             "skill on the 4th; validate against local gauges before use", source,
+             c->axis_ratio_fixed > 0.0 ? "fixed" : rp_shape_name(c->shape),
+             rp_canting_model_name(c->canting_model), c->canting_sd_deg);
     const int ncols = np > 4 ? 3 : 2;
     const int nrows = (int)((np + (size_t)ncols - 1) / (size_t)ncols);
+    rp_figure fig = {title, subtitle, panels, np, ncols, 520 * ncols, 440 * nrows + 60};
     rp_error err = {0};
-    if (rp_plot_panels(a->plot, panels, np, ncols, 520 * ncols, 440 * nrows, &err) != RP_OK)
-      rc = rp_cli_fail_err("relate", &err);
+    if (rp_figure_draw_temp(a->plot, &fig, tmp, tmp_len, &err) != RP_OK)
+      rc = rp_cli_fail("relate", err.status, "--plot: %s", err.msg);
   }
   for (size_t k = 0; k < RP_REL_COUNT; k++) {
     free(pd[k].x); free(pd[k].y); free(pd[k].cx); free(pd[k].cy); free(pd[k].ex); free(pd[k].ey);
@@ -541,18 +578,28 @@ int rp_cmd_relate(int argc, char **argv) {
   }
   if ((rc = rp_cli_check_outputs("relate", a.csv, a.plot))) return rc;
 
-  /* The picture is written first, then the CSV (the data last: see output_set.h), each
-   * whole or not at all; when the picture fails, no CSV is written. */
+  /* The picture is drawn and checked in a temporary file first; then the CSV (the data)
+   * is written whole and renamed, and the picture renamed last: a failure before leaves
+   * both old outputs, a kill between the renames new data beside the old picture, never
+   * a picture of samples that were not written. */
   relate_state st;
   memset(&st, 0, sizeof st);
   rc = compute(&a, &st);
-  if (rc == 0 && a.plot != NULL) rc = write_plot(&a, &st);
+  char plot_tmp[4096] = "";
+  if (rc == 0 && a.plot != NULL) rc = write_plot(&a, &st, plot_tmp, sizeof plot_tmp);
   if (rc == 0 && a.csv != NULL) {
     rp_error err = {0};
     if (rp_relate_samples_save_csv(a.csv, st.samples, st.n,
                                    st.set ? (const char *const *)st.set->labels : NULL,
                                    &err) != RP_OK)
       rc = rp_cli_fail_err("relate", &err);
+  }
+  if (plot_tmp[0]) {
+    rp_error err = {0};
+    if (rc != 0)
+      rp_figure_discard(plot_tmp);
+    else if (rp_figure_commit(plot_tmp, a.plot, &err) != RP_OK)
+      rc = rp_cli_fail("relate", err.status, "--plot: %s", err.msg);
   }
   if (rc == 0) {
     if (a.s.json)
