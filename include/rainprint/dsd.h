@@ -57,7 +57,7 @@
 #define RP_DSD_NW_MIN 1e-2
 #define RP_DSD_NW_MAX 1e9
 #define RP_DSD_RAIN_RATE_MIN 1e-3
-#define RP_DSD_RAIN_RATE_MAX 1000.0
+#define RP_DSD_RAIN_RATE_MAX 2000.0
 #define RP_DSD_LWC_MIN 1e-12
 #define RP_DSD_LWC_MAX 1000.0
 #define RP_DSD_CONC_MAX 1e9

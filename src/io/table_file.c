@@ -8,22 +8,24 @@
  *   statvfs() of the folder tells a full (or read-only) file system, reported with the
  *   system's reason ("No space left on device") instead of HDF5's; a full disk that
  *   only shows at the flush is reported by fsync.
- * - Checksum: 64-bit FNV-1a (Fowler, Noll & Vo; offset basis 0xcbf29ce484222325, prime
- *   0x100000001b3) over, in order: the tag "rainprint-table-checksum-1\n"; every
- *   metadata attribute of META_TEXT then META_NUM as "name=" + its text bytes, or its
- *   8 IEEE-754 bytes little-endian, + "\n"; the number of diameters as 8 bytes
- *   little-endian; then each column in file order as its name + "\n" + its n values as
- *   8 bytes little-endian each. Stored as the text attribute data_checksum =
- *   "fnv1a64:<16 hex digits>". FNV-1a is not cryptographic: it catches corruption
- *   (any single changed byte changes the hash), not forgery (see docs: tables are
- *   data to trust like code).
+ * - Checksums: 64-bit FNV-1a (Fowler, Noll & Vo; offset basis 0xcbf29ce484222325,
+ *   prime 0x100000001b3). Per variable (attribute data_checksum of the variable): its
+ *   name + "\n" + its n values, each as 8 IEEE-754 bytes little-endian. Global
+ *   (attribute data_checksum): the tag "rainprint-table-checksum-1\n"; every metadata
+ *   attribute of META_TEXT then META_NUM as "name=" + its text bytes, or its 8 bytes
+ *   little-endian, + "\n"; the number of diameters as 8 bytes little-endian; then the
+ *   per-variable checksums in file order, 8 bytes little-endian each. Both are text
+ *   "fnv1a64:<16 hex digits>". So a changed value is named with its variable, a changed
+ *   attribute by the global checksum. FNV-1a is not cryptographic: it catches
+ *   corruption, not forgery (tables are data to trust like code).
  * - Load: before the netCDF library sees anything, the file must be a regular file
  *   (opened O_NONBLOCK, so a FIFO cannot hang the open), at most
  *   RP_TABLE_FILE_MAX_BYTES, and start with the HDF5 signature (netCDF-4 is what
  *   rp_table_save writes; netCDF-3 files are refused, their headers drove the netCDF
  *   library into huge allocations). The bytes are read once and opened from memory
  *   (nc_open_mem), so the checked file is the parsed file. Then: shape and types of
- *   every variable, the checksum, and rp_table_validate (the physics bounds, below).
+ *   every variable, rp_table_validate (the physics bounds, below: an implausible value
+ *   is named with its bound), then the checksums (every other change).
  * - Bounds (rp_table_validate; justification in docs/notes/reliability.md):
  *   all values finite; |f|^2 columns and Im f(0) >= 0 (optical theorem: extinction
  *   >= 0); |<f_hh f_vv*>|^2 <= <|f_hh|^2><|f_vv|^2> (Cauchy–Schwarz for the canting
