@@ -28,10 +28,20 @@
  *   KDP        observed: half the least-squares slope of the observed PhiDP over
  *              kdp_window_gates gates centred on the gate, only where every gate of
  *              the window has signal.
+ *   pulses     (optional, rp_volume_options.pulses) instead of the formula noise, every
+ *              gate above sensitivity gets M = radar.pulses dual-pol I/Q pulses (iq.h,
+ *              Zrnić 1975) of its attenuated Zh, ZDR (with bias), rhoHV, PhiDP (with
+ *              offset), radial velocity and width (clipped to v_a), SNR (clipped to
+ *              RP_IQ_SNR_MAX_DB), drawn from streams (RP_RNG_PULSES, sweep, ray, gate);
+ *              DBZ, ZDR, RHOHV (noise-corrected), PHIDP, VEL (pulse pair), WIDTH
+ *              (R0/R1) are the estimates of pulse_estimators.h; LDRH keeps the formula
+ *              noise; KDP as above; the truth fields are unchanged
+ *              (docs/notes/volume_pulses.md).
  * Memory: fields are float, rays x gates each (about 130 bytes per gate in all). */
 #ifndef RAINPRINT_VOLUME_H
 #define RAINPRINT_VOLUME_H
 
+#include <complex.h>
 #include <stdbool.h>
 #include <stddef.h>
 
@@ -88,9 +98,13 @@ typedef struct {
   int threads;                      /* 0: OpenMP's default */
   rp_volume_progress_fn progress;   /* may be NULL; called between sweeps */
   void *progress_ctx;
+  bool pulses;        /* true: observed fields estimated from synthesised I/Q (needs noise) */
+  bool keep_iq;       /* with pulses: keep the I/Q of sweep keep_iq_sweep in the volume */
+  size_t keep_iq_sweep; /* 0-based */
 } rp_volume_options;
 
-/* Seed and noise switch from the scenario, default threads, no progress. */
+/* Seed and noise switch from the scenario, default threads, no progress, formula
+ * noise (pulses false, no I/Q kept). */
 void rp_volume_options_from_scenario(const rp_scenario *s, rp_volume_options *o);
 
 typedef struct {
@@ -115,12 +129,23 @@ typedef struct {
   float *field[RP_VF_COUNT]; /* n_rays x n_gates, row per ray; NULL when absent
                                 (LDRH without measures_ldr); NaN = fill */
   rp_volume_summary summary;
+  bool pulses;              /* observed fields are pulse-level estimates */
+  size_t iq_sweep;          /* the sweep whose I/Q were kept (iq_h non-NULL) */
+  size_t iq_pulses;         /* M of the kept I/Q (0 when none) */
+  /* kept I/Q (options.keep_iq) or NULL: rays of iq_sweep x n_gates x M samples, ray
+   * then gate then pulse, normalised to receiver noise power 1 per channel (iq.h). Every
+   * gate has samples: gates without echo or below sensitivity hold their (weak) signal
+   * at an SNR clipped to [RP_IQ_SNR_MIN_DB, RP_IQ_SNR_MAX_DB], or receiver noise alone
+   * (SNR RP_IQ_SNR_MIN_DB) where there is no rain. 16 M bytes per gate. */
+  float complex *iq_h, *iq_v;
 } rp_volume;
 
 /* Simulate scenario s (checked here with rp_scenario_check) with physics p.
  * Caller frees *out with rp_volume_free. Statuses: those of rp_scenario_check;
- * RP_EINVAL (NULL arguments, p without eval or fall); RP_ENOMEM; any status of the
- * evaluator (the message names sweep, ray and gate). */
+ * RP_EINVAL (NULL arguments, p without eval or fall; o->pulses without o->noise;
+ * o->keep_iq without o->pulses or with keep_iq_sweep past the last sweep); RP_ENOMEM
+ * (also for kept I/Q too large for memory); any status of the evaluator (the message
+ * names sweep, ray and gate); at pulse level those of rp_pulse_gate (RP_EFFTW). */
 rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
                                const rp_volume_options *o, rp_volume **out, rp_error *err);
 void rp_volume_free(rp_volume *v); /* NULL ok */
@@ -142,6 +167,10 @@ typedef struct {
 #define RP_VOLUME_MAX_PULSES 1024
 void rp_volume_noise_std(int pulses, double prt_s, double wavelength_m, double width_ms,
                          double snr, double rhohv, double ldr, rp_volume_noise *out);
+
+/* Noise-equivalent reflectivity (dBZ) at range_m of the scenario's radar: the
+ * reflectivity of SNR 0 dB, sensitivity + 20 log10(r / 10 km). No checks. */
+double rp_volume_noise_equivalent_dbz(const rp_scenario *s, double range_m);
 
 /* Fold v into [-v_a, v_a). */
 double rp_volume_fold(double v_ms, double nyquist_ms);

@@ -9,10 +9,19 @@
  * same for any thread count.
  * Invariants: observed fields are NaN (fill) where there is no rain, above the freezing
  * level or below sensitivity; truth fields of radar variables are NaN where no rain is
- * in the beam; path integrals use K, A = 0 at gates without rain. */
+ * in the beam; path integrals use K, A = 0 at gates without rain.
+ *
+ * Pulse level (o->pulses): one rp_iq_workspace and one pair of sample buffers per
+ * thread, allocated once per synthesis (M constant per workspace, so FFTW plans are made
+ * once); each gate above sensitivity draws its pulses from its own stream
+ * (RP_RNG_PULSES, sweep, ray, gate) and, for LDRH only, the formula noise from its
+ * (RP_RNG_VOLUME_NOISE, ...) stream as in formula mode, so the volume is again the same
+ * for any thread count. The choices (clipping, censoring, PhiDP branch) are in
+ * docs/notes/volume_pulses.md. */
 #include "rainprint/volume.h"
 
 #include <math.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -20,6 +29,8 @@
 
 #include "rainprint/beam.h"
 #include "rainprint/fallspeed.h"
+#include "rainprint/iq.h"
+#include "rainprint/pulse_estimators.h"
 #include "rainprint/rng.h"
 
 static const double DEG = M_PI / 180.0;
@@ -188,7 +199,13 @@ void rp_volume_free(rp_volume *v) {
   free(v->elevation_deg);
   free(v->time_s);
   free(v->range_m);
+  free(v->iq_h);
+  free(v->iq_v);
   free(v);
+}
+
+double rp_volume_noise_equivalent_dbz(const rp_scenario *s, double range_m) {
+  return s->radar.sensitivity_dbz_at_10km + 20.0 * log10(range_m / 10000.0);
 }
 
 /* ---- per-sweep geometry ---------------------------------------------------------- */
@@ -204,6 +221,12 @@ typedef struct {
   double *zmin_dbz;  /* noise-equivalent reflectivity per gate */
 } sweep_geom;
 
+/* Per-thread state of the pulse-level mode. */
+typedef struct {
+  rp_iq_workspace *ws;
+  double complex *h, *v; /* M samples each */
+} pulse_ctx;
+
 typedef struct {
   const rp_scenario *s;
   const rp_volume_physics *p;
@@ -212,7 +235,68 @@ typedef struct {
   size_t sweep;
   const sweep_geom *g;
   double fl_m, dr_km, sigma_b_rad, prt_s, va, lambda, rot_rad_s;
+  int pulses;                 /* pulse-level mode */
+  size_t m;                   /* pulses per gate */
+  float complex *iq_h, *iq_v; /* this sweep's kept I/Q, or NULL */
 } ray_job;
+
+static double wrap180(double d) { return d - 360.0 * floor((d + 180.0) / 360.0); }
+
+static double clampd(double x, double lo, double hi) { return x < lo ? lo : x > hi ? hi : x; }
+
+/* I/Q parameters of a gate; width clipped to v_a and SNR, ZDR, rhoHV to the
+ * synthesiser's ranges (iq.h). */
+static void gate_iq_params(const ray_job *j, double zh_dbz, double zdr_db, double rhohv,
+                           double phidp_deg, double vel_ms, double width_ms, double snr_db,
+                           rp_iq_params *ip) {
+  ip->zh_dbz = zh_dbz;
+  ip->zdr_db = clampd(zdr_db, -RP_IQ_ZDR_MAX_DB, RP_IQ_ZDR_MAX_DB);
+  ip->rhohv = clampd(rhohv, 0.0, 1.0);
+  ip->phidp_deg = phidp_deg;
+  ip->velocity_m_s = vel_ms;
+  ip->width_m_s = clampd(width_ms, 0.0, j->va);
+  ip->snr_db = clampd(snr_db, RP_IQ_SNR_MIN_DB, RP_IQ_SNR_MAX_DB);
+  ip->n_pulses = j->m;
+  ip->prt_s = j->prt_s;
+  ip->wavelength_mm = 1000.0 * j->lambda;
+}
+
+/* Pulses of one gate from its stream; estimates into est (may be NULL: samples only,
+ * for the kept sweep); the samples are kept when this sweep's I/Q are. */
+static rp_status pulse_gate(const ray_job *j, pulse_ctx *pc, size_t ray_in_sweep, size_t gi,
+                            const rp_iq_params *ip, rp_pulse_estimates *est, rp_error *err) {
+  rp_rng rng;
+  rp_rng_init(&rng, j->o->seed, rp_rng_key(RP_RNG_PULSES, j->sweep, ray_in_sweep, gi));
+  rp_status st;
+  if (est != NULL) {
+    const int keep = j->iq_h != NULL;
+    st = rp_pulse_gate(pc->ws, ip, NULL, &rng, RP_WINDOW_HANN, est, keep ? pc->h : NULL,
+                       keep ? pc->v : NULL, err);
+  } else {
+    st = rp_iq_synthesize(pc->ws, ip, NULL, &rng, pc->h, pc->v, err);
+  }
+  if (st != RP_OK) {
+    rp_error_prefix(err, "gate %zu (%.0f m), pulses: ", gi, j->v->range_m[gi]);
+    return st;
+  }
+  if (j->iq_h != NULL) {
+    const size_t off = (ray_in_sweep * j->v->n_gates + gi) * j->m;
+    for (size_t k = 0; k < j->m; k++) {
+      j->iq_h[off + k] = CMPLXF((float)creal(pc->h[k]), (float)cimag(pc->h[k]));
+      j->iq_v[off + k] = CMPLXF((float)creal(pc->v[k]), (float)cimag(pc->v[k]));
+    }
+  }
+  return RP_OK;
+}
+
+/* Kept sweep, gate without echo: receiver noise alone (lowest SNR of the synthesiser). */
+static rp_status noise_only_gate(const ray_job *j, pulse_ctx *pc, size_t ray_in_sweep,
+                                 size_t gi, rp_error *err) {
+  rp_iq_params ip;
+  const double zmin = j->g->zmin_dbz[gi];
+  gate_iq_params(j, zmin + RP_IQ_SNR_MIN_DB, 0.0, 1.0, 0.0, 0.0, 0.0, RP_IQ_SNR_MIN_DB, &ip);
+  return pulse_gate(j, pc, ray_in_sweep, gi, &ip, NULL, err);
+}
 
 /* a += w b (beam-filling sums; the same as rp_gate_linear_axpy of radar_model.h, kept
  * here so that the synthesis needs gate.h alone) */
@@ -236,7 +320,8 @@ static double radial_wind(const rp_scenario *s, double x_km, double y_km, double
 }
 
 /* One ray: truth, propagation, noise, KDP. Returns a status with the place named. */
-static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, rp_error *err) {
+static rp_status do_ray(const ray_job *j, pulse_ctx *pc, size_t ray_in_sweep, size_t ray,
+                        rp_error *err) {
   const rp_scenario *s = j->s;
   const rp_volume *v = j->v;
   const size_t ng = v->n_gates;
@@ -352,6 +437,7 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, rp_er
         F[RP_VF_TRUTH_AH][ix] = 0.0f;
         F[RP_VF_TRUTH_ADP][ix] = 0.0f;
       }
+      if (j->iq_h != NULL) RP_TRY(noise_only_gate(j, pc, ray_in_sweep, gi, err));
       continue;
     }
     F[RP_VF_TRUTH_ZH][ix] = (float)res.zh_dbz;
@@ -387,11 +473,47 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, rp_er
     const double zmin = g->zmin_dbz[gi];
     const double dbz_att = res.zh_dbz - pia;
     const double snr_db = dbz_att - zmin;
-    if (snr_db < 0.0) continue; /* below sensitivity: fill */
+    const double zdr_att = res.zdr_db - pia_dp + s->radar.zdr_bias_db;
+    const double phi_true = s->radar.phidp_offset_deg + phi_prop + res.delta_hv_deg;
+    rp_iq_params ip = {0};
+    if (j->pulses)
+      gate_iq_params(j, dbz_att, zdr_att, res.rhohv, phi_true, vr, width, snr_db, &ip);
+    if (snr_db < 0.0) { /* below sensitivity: fill (the kept I/Q hold the weak signal) */
+      if (j->iq_h != NULL) RP_TRY(pulse_gate(j, pc, ray_in_sweep, gi, &ip, NULL, err));
+      continue;
+    }
     double nz[7] = {0, 0, 0, 0, 0, 0, 0};
     rp_volume_noise sd;
     const double snr = pow(10.0, 0.1 * snr_db);
     const double ldr_lin = pow(10.0, 0.1 * res.ldr_db);
+    if (j->pulses) {
+      rp_pulse_estimates est;
+      RP_TRY(pulse_gate(j, pc, ray_in_sweep, gi, &ip, &est, err));
+      const double *e = est.value;
+      /* censored when the noise-subtracted power is not positive (no estimate) */
+      if (!(e[RP_PULSE_POWER] > 0.0)) continue;
+      /* DBZ = Z_min + 10 log10(S_est), the same as the calibrated estimate zh */
+      const double dbz_p = e[RP_PULSE_ZH];
+      F[RP_VF_DBZ][ix] = (float)dbz_p;
+      F[RP_VF_SNR][ix] = (float)(dbz_p - zmin);
+      F[RP_VF_ZDR][ix] = (float)e[RP_PULSE_ZDR];
+      /* the estimate is known mod 360: put it on the branch nearest the noise-free
+       * PhiDP (an ideal unfolding) so that KDP is estimated as in formula mode */
+      F[RP_VF_PHIDP][ix] = (float)(phi_true + wrap180(e[RP_PULSE_PHIDP] - phi_true));
+      F[RP_VF_RHOHV][ix] = (float)e[RP_PULSE_RHOHV];
+      F[RP_VF_VEL][ix] = (float)rp_volume_fold(e[RP_PULSE_VELOCITY_PP], j->va);
+      F[RP_VF_WIDTH][ix] = (float)e[RP_PULSE_WIDTH_R0R1];
+      if (F[RP_VF_LDRH] != NULL && res.ldr_db > RP_LDR_FLOOR_DB && snr * ldr_lin >= 1.0) {
+        /* LDR: formula noise from the gate's formula stream (not synthesised) */
+        rp_volume_noise_std(s->radar.pulses, j->prt_s, j->lambda, width, snr, res.rhohv,
+                            ldr_lin, &sd);
+        rp_rng rng;
+        rp_rng_init(&rng, j->o->seed, rp_rng_key(RP_RNG_VOLUME_NOISE, j->sweep, ray_in_sweep, gi));
+        for (int k = 0; k < 7; k++) nz[k] = rp_rng_normal(&rng);
+        F[RP_VF_LDRH][ix] = (float)(res.ldr_db + 0.5 * pia_dp + nz[6] * sd.ldr_db);
+      }
+      continue;
+    }
     rp_volume_noise_std(s->radar.pulses, j->prt_s, j->lambda, width, snr, res.rhohv, ldr_lin,
                         &sd);
     if (j->o->noise) {
@@ -402,9 +524,8 @@ static rp_status do_ray(const ray_job *j, size_t ray_in_sweep, size_t ray, rp_er
     const double dbz_obs = dbz_att + nz[0] * sd.dbz;
     F[RP_VF_DBZ][ix] = (float)dbz_obs;
     F[RP_VF_SNR][ix] = (float)(dbz_obs - zmin);
-    F[RP_VF_ZDR][ix] = (float)(res.zdr_db - pia_dp + s->radar.zdr_bias_db + nz[1] * sd.zdr_db);
-    F[RP_VF_PHIDP][ix] = (float)(s->radar.phidp_offset_deg + phi_prop + res.delta_hv_deg +
-                                 nz[2] * sd.phidp_deg);
+    F[RP_VF_ZDR][ix] = (float)(zdr_att + nz[1] * sd.zdr_db);
+    F[RP_VF_PHIDP][ix] = (float)(phi_true + nz[2] * sd.phidp_deg);
     F[RP_VF_RHOHV][ix] = (float)(res.rhohv + nz[3] * sd.rhohv);
     F[RP_VF_VEL][ix] = (float)rp_volume_fold(vr + nz[4] * sd.vel_ms, j->va);
     const double w_obs = width + nz[5] * sd.width_ms;
@@ -478,7 +599,7 @@ static rp_status sweep_geom_fill(const rp_scenario *s, const rp_volume *v, doubl
     if (rp_fallspeed_density_factor(hk, &f, NULL) != RP_OK) f = 1.0;
     g->density[gi] = f;
     /* Z_min(r) = sensitivity + 20 log10(r / 10 km) */
-    g->zmin_dbz[gi] = s->radar.sensitivity_dbz_at_10km + 20.0 * log10(v->range_m[gi] / 10000.0);
+    g->zmin_dbz[gi] = rp_volume_noise_equivalent_dbz(s, v->range_m[gi]);
   }
   return RP_OK;
 }
@@ -491,6 +612,16 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
   if (p->eval == NULL || p->fall == NULL)
     return rp_error_set(err, RP_EINVAL, "volume: physics without an evaluator or fall moments");
   RP_TRY(rp_scenario_check(s, NULL, 0, err));
+  if (o->pulses && !o->noise)
+    return rp_error_set(err, RP_EINVAL, "volume: pulse level needs noise on (pulse estimates "
+                                        "are noisy by nature)");
+  if (o->keep_iq && !o->pulses)
+    return rp_error_set(err, RP_EINVAL, "volume: keeping I/Q of sweep %zu needs the pulse "
+                                        "level", o->keep_iq_sweep);
+  if (o->keep_iq && o->keep_iq_sweep >= s->radar.n_elevations)
+    return rp_error_set(err, RP_EINVAL, "volume: I/Q of sweep %zu asked, the scenario has "
+                        "%zu sweeps (0 to %zu)", o->keep_iq_sweep, (size_t)s->radar.n_elevations,
+                        (size_t)s->radar.n_elevations - 1);
   const double t0 = omp_get_wtime();
   rp_status st = RP_OK;
   const rp_scenario_radar *r = &s->radar;
@@ -499,6 +630,7 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
   v->scenario = *s;
   v->seed = o->seed;
   v->noise = o->noise;
+  v->pulses = o->pulses;
   v->n_sweeps = r->n_elevations;
   const size_t rays_per = (size_t)llround(360.0 / r->azimuth_step_deg);
   v->n_rays = rays_per * v->n_sweeps;
@@ -520,6 +652,19 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
     if (f == RP_VF_LDRH && !r->measures_ldr) continue;
     v->field[f] = malloc(cells * sizeof(float));
     if (v->field[f] == NULL) bad = 1;
+  }
+  const size_t m = (size_t)r->pulses;
+  if (!bad && o->keep_iq) {
+    const size_t per_ray = v->n_gates * m;
+    if (per_ray > SIZE_MAX / sizeof(float complex) / rays_per) {
+      bad = 1;
+    } else {
+      v->iq_h = malloc(rays_per * per_ray * sizeof(float complex));
+      v->iq_v = malloc(rays_per * per_ray * sizeof(float complex));
+      bad = v->iq_h == NULL || v->iq_v == NULL;
+      v->iq_sweep = o->keep_iq_sweep;
+      v->iq_pulses = m;
+    }
   }
   if (bad) {
     rp_volume_free(v);
@@ -552,10 +697,28 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
   job.va = v->nyquist_ms;
   job.lambda = v->wavelength_m;
   job.rot_rad_s = r->azimuth_step_deg * DEG / (r->pulses * prt);
+  job.pulses = o->pulses;
+  job.m = m;
+  job.iq_h = job.iq_v = NULL;
+  const int nthreads = o->threads > 0 ? o->threads : omp_get_max_threads();
+  /* one workspace and sample buffers per thread, for the whole synthesis */
+  pulse_ctx *pcs = NULL;
+  if (o->pulses) {
+    pcs = calloc((size_t)nthreads, sizeof *pcs);
+    if (pcs == NULL) st = rp_error_set(err, RP_ENOMEM, "volume: out of memory for the pulses");
+    for (int t = 0; t < nthreads && st == RP_OK; t++) {
+      pcs[t].ws = rp_iq_workspace_alloc(m, err);
+      pcs[t].h = malloc(m * sizeof *pcs[t].h);
+      pcs[t].v = malloc(m * sizeof *pcs[t].v);
+      if (pcs[t].ws == NULL) st = err != NULL && err->status != RP_OK ? err->status : RP_ENOMEM;
+      else if (pcs[t].h == NULL || pcs[t].v == NULL)
+        st = rp_error_set(err, RP_ENOMEM, "volume: out of memory for the pulses");
+    }
+  }
   sweep_geom g;
   memset(&g, 0, sizeof g);
   g.nb = s->beam_samples;
-  {
+  if (st == RP_OK) {
     double off[RP_BEAM_SAMPLES_MAX];
     st = rp_beam_gauss_hermite(g.nb, off, g.w, err);
     for (int k = 0; k < g.nb; k++) g.off[k] = off[k] * job.sigma_b_rad;
@@ -567,17 +730,20 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
     if (st != RP_OK) break;
     job.sweep = k;
     job.g = &g;
+    const int keep = v->iq_h != NULL && k == v->iq_sweep;
+    job.iq_h = keep ? v->iq_h : NULL;
+    job.iq_v = keep ? v->iq_v : NULL;
     rp_status sweep_st = RP_OK;
     long first_bad = -1;
     rp_error first_err;
     memset(&first_err, 0, sizeof first_err);
     const long nr = (long)rays_per;
-    const int nthreads = o->threads > 0 ? o->threads : omp_get_max_threads();
 #pragma omp parallel for schedule(dynamic, 4) num_threads(nthreads)
     for (long i = 0; i < nr; i++) {
       rp_error e;
       memset(&e, 0, sizeof e);
-      const rp_status rs = do_ray(&job, (size_t)i, k * rays_per + (size_t)i, &e);
+      pulse_ctx *pc = pcs != NULL ? &pcs[omp_get_thread_num()] : NULL;
+      const rp_status rs = do_ray(&job, pc, (size_t)i, k * rays_per + (size_t)i, &e);
       if (rs != RP_OK) {
 #pragma omp critical(rp_volume_error)
         {
@@ -599,6 +765,14 @@ rp_status rp_volume_synthesize(const rp_scenario *s, const rp_volume_physics *p,
     if (o->progress != NULL) o->progress(o->progress_ctx, (double)(k + 1) / (double)v->n_sweeps);
   }
   sweep_geom_free(&g);
+  if (pcs != NULL) {
+    for (int t = 0; t < nthreads; t++) {
+      rp_iq_workspace_free(pcs[t].ws);
+      free(pcs[t].h);
+      free(pcs[t].v);
+    }
+    free(pcs);
+  }
   if (st != RP_OK) {
     rp_volume_free(v);
     return st;
