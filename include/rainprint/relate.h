@@ -227,6 +227,9 @@ typedef struct {
   rp_relate_quality quality;
   /* thresholds and the relations to fit */
   rp_relate_options options;
+  /* called now and then with the fraction done (may be NULL) */
+  rp_progress_fn progress;
+  void *progress_ctx;
 } rp_relate_request;
 
 /* An ensemble of RP_ENSEMBLE_SIZE_DEFAULT members, seed 1, no climate (set one), the

@@ -61,6 +61,10 @@ void rp_error_prefix(rp_error *err, const char *fmt, ...)
 /* Reset err to RP_OK with an empty message (err may be NULL). */
 void rp_error_clear(rp_error *err);
 
+/* A progress report of a long library call: fraction_done in [0, 1]. Called from the
+ * thread that made the call, so it needs no lock; it must not call back into the call. */
+typedef void (*rp_progress_fn)(void *ctx, double fraction_done);
+
 /* Propagate a non-OK status from an expression. */
 #define RP_TRY(expr)                     \
   do {                                   \

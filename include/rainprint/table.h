@@ -55,11 +55,19 @@ void rp_table_free(rp_table *t);   /* NULL ok */
 
 /* Compute a table for cfg on the grid dmin_mm, dmin_mm + dstep_mm, ..., <= dmax_mm
  * (a point within 1e-9 steps of dmax_mm counts, and a last point that rounding puts
- * past dmax_mm is dmax_mm), in parallel over diameters (OpenMP). Caller frees *out.
+ * past dmax_mm is dmax_mm), plus a knot on each side of every breakpoint of the shape
+ * model inside the grid (rp_shape_breakpoints: the gate plan splines each smooth piece
+ * of r(D) on its own), in parallel over diameters (OpenMP). Caller frees *out.
  * Statuses: RP_EINVAL/RP_EDOM for a bad grid or config, RP_ENOCONV if the T-matrix
  * fails for any diameter (the message names it), RP_ENOMEM. */
 rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
                          double dstep_mm, rp_table **out, rp_error *err);
+
+/* As rp_table_build, calling progress(progress_ctx, fraction done) now and then from
+ * the calling thread (progress may be NULL). For the progress bar of long builds. */
+rp_status rp_table_build_progress(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
+                                  double dstep_mm, rp_progress_fn progress, void *progress_ctx,
+                                  rp_table **out, rp_error *err);
 
 /* RP_OK when t was computed for cfg (frequency, temperature, shape or fixed axis ratio,
  * canting model/SD/approximation, elevation, method, within 1e-6); otherwise

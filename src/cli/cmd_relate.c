@@ -8,6 +8,7 @@
 #include <unistd.h>
 
 #include "cli/cli.h"
+#include "cli/progress.h"
 #include "rainprint/names.h"
 #include "rainprint/radar_model.h"
 #include "rainprint/figure.h"
@@ -169,6 +170,11 @@ static void state_free(relate_state *st) {
 
 /* ---- computing (library calls) ------------------------------------------------------ */
 
+/* The library's progress (fraction done) on the terminal's bar (progress.h). */
+static void progress_step(void *ctx, double fraction) {
+  rp_cli_progress_step(ctx, (size_t)lround(1000.0 * fraction));
+}
+
 static int compute(const relate_args *a, relate_state *st) {
   rp_error err = {0};
   rp_radar_config rc;
@@ -208,7 +214,12 @@ static int compute(const relate_args *a, relate_state *st) {
     req.n_members = (size_t)a->ensemble;
     req.seed = (unsigned long)a->seed;
   }
+  rp_cli_progress bar;
+  rp_cli_progress_start(&bar, "relate", "per mille", 1000);
+  req.progress = progress_step;
+  req.progress_ctx = &bar;
   const rp_status s = rp_relate_run(st->model, 0, &req, &st->res, &err);
+  rp_cli_progress_end(&bar);
   if (s == RP_ESAMPLES)
     return rp_cli_fail("relate", s, "%s (lower --min-zh, --min-kdp or --min-zdr, or give more "
                        "samples)", err.msg);

@@ -3,6 +3,7 @@
 #include <string.h>
 
 #include "cli/cli.h"
+#include "cli/progress.h"
 #include "rainprint/table_file.h"
 
 /* Ranges as rp_table_build's grid check (scatter/table.c): 0 < dmin < dmax <= 10 mm, a step
@@ -28,6 +29,11 @@ static const rp_opts_command table_cmd = {
     .titles = {"Table", "Band", "Scattering"},
 };
 
+/* The library's progress (fraction done) on the terminal's bar (progress.h). */
+static void progress_step(void *ctx, double fraction) {
+  rp_cli_progress_step(ctx, (size_t)lround(1000.0 * fraction));
+}
+
 int rp_cmd_table(int argc, char **argv) {
   rp_opts o;
   int rc = rp_opts_parse(&table_cmd, argc, argv, &o);
@@ -49,8 +55,12 @@ int rp_cmd_table(int argc, char **argv) {
 
   rp_table *t = NULL;
   rp_error err = {0};
-  if (rp_table_build(&s.cfg, dmin, dmax, dstep, &t, &err) != RP_OK)
-    return rp_cli_fail_err("table", &err);
+  rp_cli_progress bar;
+  rp_cli_progress_start(&bar, "table", "per mille", 1000);
+  const rp_status built =
+      rp_table_build_progress(&s.cfg, dmin, dmax, dstep, progress_step, &bar, &t, &err);
+  rp_cli_progress_end(&bar);
+  if (built != RP_OK) return rp_cli_fail_err("table", &err);
   const rp_status st = rp_table_save(t, out, &err);
   const size_t n = t->n;
   const double d0 = t->d_mm[0], d1 = t->d_mm[n - 1];

@@ -230,22 +230,16 @@ static rp_status member_sample(const rp_gate_plan *plan, const rp_gate_fast *fas
   return RP_OK;
 }
 
-rp_status rp_relate_ensemble_eval(const rp_gate_plan *plan, const rp_gate_fast *fast,
-                                  const rp_ensemble_member *m, size_t n,
-                                  rp_relate_sample *out, size_t *n_direct, rp_error *err) {
-  if (plan == NULL || m == NULL || out == NULL)
-    return rp_error_set(err, RP_EINVAL, "relate: NULL plan, members or output");
-  if (n < RP_RELATE_MIN_MEMBERS)
-    return rp_error_set(err, RP_EINVAL,
-                        "ensemble of %zu members is too small: at least %d are needed (3 in 4 "
-                        "are fitted, 1 in 4 scores the fit)", n, RP_RELATE_MIN_MEMBERS);
-  /* Members are independent: evaluated in parallel; the first failing member (lowest
-   * index) is reported, whatever the schedule. */
-  size_t direct = 0, first_bad = n;
+/* Samples of members [lo, hi) (index = member index), in parallel; the first failing
+ * member (lowest index) is reported, whatever the schedule. */
+static rp_status eval_members(const rp_gate_plan *plan, const rp_gate_fast *fast,
+                              const rp_ensemble_member *m, size_t lo, size_t hi,
+                              rp_relate_sample *out, size_t *n_direct, rp_error *err) {
+  size_t direct = 0, first_bad = hi;
   rp_status bad = RP_OK;
   rp_error bad_err = {0};
 #pragma omp parallel for schedule(static) reduction(+ : direct)
-  for (size_t i = 0; i < n; i++) {
+  for (size_t i = lo; i < hi; i++) {
     rp_error local = {0};
     const rp_status st = member_sample(plan, fast, &m[i], i, &out[i], &local);
     if (st != RP_OK) {
@@ -264,6 +258,21 @@ rp_status rp_relate_ensemble_eval(const rp_gate_plan *plan, const rp_gate_fast *
     rp_error_prefix(err, "ensemble member %zu: ", first_bad);
     return bad;
   }
+  *n_direct += direct;
+  return RP_OK;
+}
+
+rp_status rp_relate_ensemble_eval(const rp_gate_plan *plan, const rp_gate_fast *fast,
+                                  const rp_ensemble_member *m, size_t n,
+                                  rp_relate_sample *out, size_t *n_direct, rp_error *err) {
+  if (plan == NULL || m == NULL || out == NULL)
+    return rp_error_set(err, RP_EINVAL, "relate: NULL plan, members or output");
+  if (n < RP_RELATE_MIN_MEMBERS)
+    return rp_error_set(err, RP_EINVAL,
+                        "ensemble of %zu members is too small: at least %d are needed (3 in 4 "
+                        "are fitted, 1 in 4 scores the fit)", n, RP_RELATE_MIN_MEMBERS);
+  size_t direct = 0;
+  RP_TRY(eval_members(plan, fast, m, 0, n, out, &direct, err));
   if (n_direct) *n_direct = direct;
   return RP_OK;
 }
@@ -555,9 +564,13 @@ rp_status rp_relate_run(rp_radar_model *model, int band, const rp_relate_request
       goto fail;
     }
     st = rp_ensemble_draw(req->climate, req->n_members, req->seed, r->members, err);
-    if (st == RP_OK)
-      st = rp_relate_ensemble_eval(en.plan, en.fast, r->members, req->n_members, r->samples,
-                                   &r->n_direct, err);
+    /* in chunks, so that a progress bar can move (the samples do not depend on them) */
+    const size_t chunk = 20000;
+    for (size_t lo = 0; st == RP_OK && lo < req->n_members; lo += chunk) {
+      const size_t hi = lo + chunk < req->n_members ? lo + chunk : req->n_members;
+      st = eval_members(en.plan, en.fast, r->members, lo, hi, r->samples, &r->n_direct, err);
+      if (req->progress != NULL) req->progress(req->progress_ctx, 0.9 * (double)hi / (double)req->n_members);
+    }
     r->n_samples = req->n_members;
   } else {
     st = rp_error_set(err, RP_EINVAL, "relate: unknown sample source %d", (int)req->source);
@@ -565,6 +578,7 @@ rp_status rp_relate_run(rp_radar_model *model, int band, const rp_relate_request
   if (st == RP_OK)
     st = rp_relate_fit_eval(r->samples, r->n_samples, &req->options, r->fits, &r->n_fits, err);
   if (st != RP_OK) goto fail;
+  if (req->progress != NULL) req->progress(req->progress_ctx, 1.0);
   *out = r;
   return RP_OK;
 fail:

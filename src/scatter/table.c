@@ -166,8 +166,24 @@ static rp_status grid_diameters(const rp_drop_config *cfg, double dmin, double d
   return RP_OK;
 }
 
+/* The thread that called (thread 0 of the team). */
+static int is_calling_thread(void) {
+#ifdef _OPENMP
+  return omp_get_thread_num() == 0;
+#else
+  return 1;
+#endif
+}
+
 rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
                          double dstep_mm, rp_table **out, rp_error *err) {
+  return rp_table_build_progress(cfg, dmin_mm, dmax_mm, dstep_mm, NULL, NULL, out, err);
+}
+
+rp_status rp_table_build_progress(const rp_drop_config *cfg, double dmin_mm, double dmax_mm,
+                                  double dstep_mm, rp_progress_fn progress, void *progress_ctx,
+                                  rp_table **out, rp_error *err) {
+  if (out == NULL) return rp_error_set(err, RP_EINVAL, "table build: NULL output");
   *out = NULL;
   RP_TRY(rp_drop_config_check(cfg, err));
   size_t n_grid = 0, n = 0;
@@ -184,7 +200,7 @@ rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_
   t->wavelength_mm = rp_wavelength_mm(cfg->freq_ghz);
 
   rp_status status = RP_OK;
-  size_t first_bad = n;
+  size_t first_bad = n, done = 0;
   rp_error bad = {0};
 #pragma omp parallel
   {
@@ -225,6 +241,11 @@ rp_status rp_table_build(const rp_drop_config *cfg, double dmin_mm, double dmax_
         t->eps_re = creal(r.eps);
         t->eps_im = cimag(r.eps);
       }
+      size_t now;
+#pragma omp atomic capture
+      now = ++done;
+      /* only the calling thread reports, so the callback needs no lock */
+      if (progress != NULL && is_calling_thread()) progress(progress_ctx, (double)now / (double)n);
     }
     rp_drop_ws_free(ws);
   }
