@@ -172,7 +172,7 @@ static void state_free(relate_state *st) {
 
 /* The library's progress (fraction done) on the terminal's bar (progress.h). */
 static void progress_step(void *ctx, double fraction) {
-  rp_cli_progress_step(ctx, (size_t)lround(1000.0 * fraction));
+  rp_cli_progress_step(ctx, (size_t)lround(100.0 * fraction));
 }
 
 static int compute(const relate_args *a, relate_state *st) {
@@ -215,7 +215,7 @@ static int compute(const relate_args *a, relate_state *st) {
     req.seed = (unsigned long)a->seed;
   }
   rp_cli_progress bar;
-  rp_cli_progress_start(&bar, "relate", "per mille", 1000);
+  rp_cli_progress_start(&bar, "relate", "% done", 100);
   req.progress = progress_step;
   req.progress_ctx = &bar;
   const rp_status s = rp_relate_run(st->model, 0, &req, &st->res, &err);

@@ -31,7 +31,7 @@ static const rp_opts_command table_cmd = {
 
 /* The library's progress (fraction done) on the terminal's bar (progress.h). */
 static void progress_step(void *ctx, double fraction) {
-  rp_cli_progress_step(ctx, (size_t)lround(1000.0 * fraction));
+  rp_cli_progress_step(ctx, (size_t)lround(100.0 * fraction));
 }
 
 int rp_cmd_table(int argc, char **argv) {
@@ -56,7 +56,7 @@ int rp_cmd_table(int argc, char **argv) {
   rp_table *t = NULL;
   rp_error err = {0};
   rp_cli_progress bar;
-  rp_cli_progress_start(&bar, "table", "per mille", 1000);
+  rp_cli_progress_start(&bar, "table", "% done", 100);
   const rp_status built =
       rp_table_build_progress(&s.cfg, dmin, dmax, dstep, progress_step, &bar, &t, &err);
   rp_cli_progress_end(&bar);
