@@ -680,13 +680,15 @@ static rp_status eval_spectrum(const rp_gate_plan *p, const rp_dsd *d, double s[
     if (!isfinite(c) || !isfinite(w) || w <= 0.0 || !isfinite(n) || n < 0.0)
       return rp_error_set(err, RP_EINVAL,
                           "gate: spectrum bin %zu (centre %g mm, width %g mm, "
-                          "concentration %g m^-3 mm^-1) is malformed", i, c, w, n);
+                          "concentration %g m^-3 mm^-1) is malformed (bins numbered from 1)",
+                          i + 1, c, w, n);
     if (n == 0.0 || c < d->dmin_mm || c > d->dmax_mm) continue;
     double lo = c - 0.5 * w, hi = c + 0.5 * w;
     if (lo < -RP_DSD_BIN_SLACK_MM || hi > tmax + D_SLACK_MM)
       return rp_error_set(err, RP_EDOM,
                           "gate: spectrum bin %zu [%g, %g] mm not within the table's "
-                          "diameter range [0, %g] mm", i, lo, hi, tmax);
+                          "diameter range [0, %g] mm (bins numbered from 1)", i + 1, lo, hi,
+                          tmax);
     lo = fmax(lo, 0.0); /* a lower edge within the slack below 0 is round-off of 0 */
     double acc[NQ] = {0};
     if (lo < tmin) {
