@@ -44,6 +44,17 @@ echo "== Rain relations at C band from 2000 seeded members of the mixed climate"
 "$rp" relate --band C --ensemble 2000 --seed 3 --relations "R(KDP),R(Zh),AH(KDP)"
 
 echo
+echo "== A synthetic volume: a squall line crossing the invented Vell valley at C band"
+"$rp" scene "$here/examples/valley-squall-line/scene.yaml" --out "$out/squall.nc"
+"$rp" picture "$out/squall.nc" --all --sweep 0 --out "$out/squall_overview.png"
+"$rp" picture "$out/squall.nc" --field PHIDP --rhi 60 --out "$out/squall_phidp_rhi.png"
+
+echo
+echo "== How noisy is the velocity at 32 pulses and 5 dB SNR? (C band, 2 m/s wide spectrum)"
+"$rp" pulses --velocity 8 --width 2 --snr 5 --pulses 32 --band C --nyquist 16 \
+  --plot "$out/pulses_32_5db.png"
+
+echo
 echo "== The table cache (tables computed for the runs above)"
 "$rp" cache list
 
@@ -52,4 +63,8 @@ echo "== Files written"
 printf '  %s\n      %s\n' \
   "$out/x_band_20c.nc" "scattering table, X band, 20 C (netCDF)" \
   "$out/zdr_kdp_ah_vs_d0.png" "picture: ZDR, KDP and AH against D0 at S, C and X band" \
-  "$out/zdr_kdp_ah_vs_d0.csv" "the numbers behind it (one row per D0 and band)"
+  "$out/zdr_kdp_ah_vs_d0.csv" "the numbers behind it (one row per D0 and band)" \
+  "$out/squall.nc" "synthetic volume with truth (CF/Radial 1.4 netCDF-4)" \
+  "$out/squall_overview.png" "picture: every field of the lowest sweep" \
+  "$out/squall_phidp_rhi.png" "picture: PhiDP in a range-height cut through the squall line" \
+  "$out/pulses_32_5db.png" "picture: Doppler spectrum and I/Q samples of the pulses run"
