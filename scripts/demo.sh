@@ -1,8 +1,8 @@
 #!/usr/bin/env bash
 # demo.sh — set up, build and run the demo: a few drops at S, C and X band, one
 # scattering table, the named rains, one of them at three bands, and a picture of ZDR,
-# KDP and AH against D0, rain relations at C band, the table cache. Outputs go to
-# ./demo-out/.
+# KDP and AH against D0, rain relations at C band, a synthetic volume with its pictures
+# and summary, I/Q pulses, the table cache. Outputs go to ./demo-out/.
 set -euo pipefail
 here=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 "$here/scripts/setup.sh" "$here/build"
