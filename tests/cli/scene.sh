@@ -92,6 +92,57 @@ PY
 expect 2 "$rp" score "$work/v.nc" "$work/r.nc" --field nothing --against truth_rain_rate_mm_h
 expect 2 "$rp" score "$work/v.nc" --field my_rain_mm_h --against truth_rain_rate_mm_h
 
+# pulse level: I/Q for every gate, estimates instead of the formula noise; one sweep's
+# I/Q kept. The fields are the estimates of the kept samples (float samples: 1e-3 dB,
+# 1e-3 m/s), the truth is the formula mode's, the file says it, threads do not matter.
+expect 0 "$rp" scene "$work/s.yaml" --out "$work/p.nc" --seed 3 --pulses --keep-iq 1 --iq-out "$work/iq.nc" --json --threads 1
+check "pulse-level summary" "$work/out" <<'PY'
+import json, sys
+r = json.load(open(sys.argv[1]))
+assert r["pulse_level"] is True and r["noise"] is True and r["iq_sweep"] == 1, r
+assert r["iq_out"].endswith("iq.nc") and r["pulses_per_ray"] == 64, r
+PY
+expect 0 "$rp" scene "$work/s.yaml" --out "$work/p2.nc" --seed 3 --pulses --threads 2
+check "pulse level: I/Q behind the fields, truth as formula mode, threads" "$work/p.nc" "$work/iq.nc" "$work/v.nc" "$work/p2.nc" <<'PY'
+import sys, netCDF4, numpy as np
+p, iq, f, p2 = (netCDF4.Dataset(x) for x in sys.argv[1:5])
+for name in ["truth_zh_dbz", "truth_phidp_deg", "truth_velocity_ms"]:
+    assert np.array_equal(p[name][:].filled(np.nan), f[name][:].filled(np.nan), equal_nan=True), name
+for name in ["DBZ", "ZDR", "PHIDP", "KDP", "RHOHV", "VEL", "WIDTH"]:
+    assert np.array_equal(p[name][:].filled(np.nan), p2[name][:].filled(np.nan), equal_nan=True), name
+assert not np.array_equal(p["DBZ"][:].filled(np.nan), f["DBZ"][:].filled(np.nan), equal_nan=True)
+r0, r1 = int(p["sweep_start_ray_index"][1]), int(p["sweep_end_ray_index"][1])
+assert iq.sweep == 1 and iq.n_pulses == 64 and len(iq.dimensions["ray"]) == r1 - r0 + 1
+h = iq["h_re"][:].astype(np.float64) + 1j * iq["h_im"][:].astype(np.float64)
+zmin = iq["noise_equivalent_reflectivity"][:]
+s = np.mean(np.abs(h) ** 2, axis=2) - 1.0
+dbz = p["DBZ"][r0:r1 + 1, :].filled(np.nan)
+ok = np.isfinite(dbz)
+assert ok.sum() > 1000
+est = zmin[None, :] + 10 * np.log10(np.where(s > 0, s, np.nan))
+assert np.nanmax(np.abs(est[ok] - dbz[ok])) < 1e-3
+r1h = np.mean(np.conj(h[:, :, :-1]) * h[:, :, 1:], axis=2)
+vel = iq.nyquist_velocity_m_s / np.pi * np.angle(r1h)
+d = (vel[ok] - p["VEL"][r0:r1 + 1, :].filled(np.nan)[ok] + iq.nyquist_velocity_m_s) % (2 * iq.nyquist_velocity_m_s) - iq.nyquist_velocity_m_s
+assert np.max(np.abs(d)) < 1e-3
+# the spread of DBZ about its truth matches the formula mode's within 15 % (brief)
+t = (p["truth_zh_dbz"][:] - p["truth_pia_db"][:]).filled(np.nan)
+ep, ef = p["DBZ"][:].filled(np.nan) - t, f["DBZ"][:].filled(np.nan) - t
+assert abs(np.nanstd(ep) / np.nanstd(ef) - 1) < 0.15, (np.nanstd(ep), np.nanstd(ef))
+PY
+# bad pulse options: exit 2, one line, no output
+rm -f "$work/q.nc" "$work/qiq.nc"
+expect 2 "$rp" scene "$work/s.yaml" --out "$work/q.nc" --pulses --keep-iq 2 --iq-out "$work/qiq.nc"
+has "sweep" err
+expect 2 "$rp" scene "$work/s.yaml" --out "$work/q.nc" --keep-iq 0 --iq-out "$work/qiq.nc"
+has "pulses" err
+expect 2 "$rp" scene "$work/s.yaml" --out "$work/q.nc" --pulses --keep-iq 0
+has "iq-out" err
+expect 2 "$rp" scene "$work/s.yaml" --out "$work/q.nc" --pulses --no-noise
+expect 2 "$rp" scene "$work/s.yaml" --out "$work/q.nc" --pulses --keep-iq 0 --iq-out "$work/q.nc"
+expect 2 "$rp" scene "$work/s.yaml" --out "$work/q.nc" --pulses --keep-iq -1 --iq-out "$work/qiq.nc"
+[[ ! -e "$work/q.nc" && ! -e "$work/qiq.nc" ]] && ok || bad "output left after bad pulse options"
+
 # bad scenarios: exit 2 naming file and key, no output file
 bad_scene() { # NAME YAML-TEXT PATTERN
   printf '%s\n' "$2" >"$work/$1.yaml"
