@@ -42,6 +42,23 @@ static void test_scan_reports_yaml_syntax_errors_with_position(void **state) {
   assert_non_null(strstr(err.msg, "YAML syntax"));
 }
 
+/* A second document was silently ignored by libcyaml: the scan refuses it, from a file
+ * stream and from memory alike, with the position of its start. */
+static void test_scan_refuses_a_second_document(void **state) {
+  (void)state;
+  rp_error err = {0};
+  assert_int_equal(scan_text("mu: 3\n---\nmu: 4\n", &err), RP_EPARSE);
+  assert_non_null(strstr(err.msg, "mem.yaml:2:1: a second YAML document"));
+  const char two[] = "---\nmu: 3\n...\n---\nmu: 4\n";
+  assert_int_equal(rp_yaml_scan_numbers_data("two.yaml", two, sizeof two - 1, keys, 2, &err),
+                   RP_EPARSE);
+  assert_non_null(strstr(err.msg, "two.yaml:4:1"));
+  const char one[] = "---\nmu: 3\n...\n";
+  assert_int_equal(rp_yaml_scan_numbers_data("one.yaml", one, sizeof one - 1, keys, 2, &err),
+                   RP_OK);
+  assert_int_equal(rp_yaml_scan_numbers_data(NULL, one, 3, keys, 2, &err), RP_EINVAL);
+}
+
 static void test_scan_rejects_null_arguments(void **state) {
   (void)state;
   rp_error err = {0};
@@ -54,6 +71,7 @@ int main(void) {
       cmocka_unit_test(test_scan_accepts_plain_numbers_and_ignores_other_keys),
       cmocka_unit_test(test_scan_names_file_line_column_and_field),
       cmocka_unit_test(test_scan_reports_yaml_syntax_errors_with_position),
+      cmocka_unit_test(test_scan_refuses_a_second_document),
       cmocka_unit_test(test_scan_rejects_null_arguments),
   };
   return cmocka_run_group_tests_name("yaml_check", tests, NULL, NULL);
