@@ -6,7 +6,11 @@
 #include "rp_test.h"
 
 #include <complex.h>
+#include <stdio.h>
 #include <string.h>
+#include <unistd.h>
+
+#include <netcdf.h>
 
 #include "rainprint/fallmoments.h"
 #include "rainprint/fallspeed.h"
@@ -16,6 +20,7 @@
 #include "rainprint/scenario.h"
 #include "rainprint/table.h"
 #include "rainprint/volume.h"
+#include "rainprint/volume_iq_file.h"
 
 /* Smooth linear integrals of the order of C-band rain, with K, A, A_DP, delta_hv > 0. */
 static rp_status fake_eval(const void *ctx, size_t sweep, double temp_c, double nw,
@@ -365,6 +370,65 @@ static void test_width_above_nyquist_and_huge_snr_are_clipped(void **state) {
   fixture_free(&f);
 }
 
+/* rp_volume_iq_save: the file holds the kept samples bit for bit (floats) with the
+ * sweep's coordinates; a volume without kept I/Q is RP_EINVAL, a missing folder RP_EIO
+ * with no file left behind. */
+static void test_kept_iq_are_written_whole(void **state) {
+  (void)state;
+  fixture f;
+  fixture_init(&f);
+  rp_scenario s;
+  small_scene(&s);
+  s.radar.gates = 40;
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  o.seed = 3;
+  o.noise = true;
+  o.pulses = true;
+  rp_volume *v = NULL;
+  rp_error err = {0};
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
+  char path[64];
+  snprintf(path, sizeof path, "test_volume_pulses_%ld.nc", (long)getpid());
+  assert_int_equal(rp_volume_iq_save(v, path, &err), RP_EINVAL); /* nothing kept */
+  assert_non_null(strstr(err.msg, "no I/Q"));
+  assert_int_equal(rp_volume_iq_save(NULL, path, &err), RP_EINVAL);
+  rp_volume_free(v);
+  o.keep_iq = true;
+  o.keep_iq_sweep = 1;
+  assert_int_equal(rp_volume_synthesize(&s, &f.p, &o, &v, NULL), RP_OK);
+  assert_int_equal(rp_volume_iq_save(v, "no-such-folder-here/iq.nc", &err), RP_EIO);
+  assert_int_equal(access("no-such-folder-here", F_OK), -1);
+  assert_int_equal(rp_volume_iq_save(v, path, &err), RP_OK);
+  int nc, id, dim;
+  size_t len;
+  assert_int_equal(nc_open(path, NC_NOWRITE, &nc), NC_NOERR);
+  const size_t rays = v->n_rays / v->n_sweeps, m = v->iq_pulses, ng = v->n_gates;
+  assert_int_equal(nc_inq_dimid(nc, "ray", &dim), NC_NOERR);
+  assert_int_equal(nc_inq_dimlen(nc, dim, &len), NC_NOERR);
+  assert_int_equal(len, rays);
+  assert_int_equal(nc_inq_dimid(nc, "pulse", &dim), NC_NOERR);
+  assert_int_equal(nc_inq_dimlen(nc, dim, &len), NC_NOERR);
+  assert_int_equal(len, m);
+  unsigned long long sweep = 9;
+  assert_int_equal(nc_get_att_ulonglong(nc, NC_GLOBAL, "sweep", &sweep), NC_NOERR);
+  assert_int_equal(sweep, 1);
+  float *buf = malloc(rays * ng * m * sizeof *buf);
+  assert_int_equal(nc_inq_varid(nc, "v_im", &id), NC_NOERR);
+  assert_int_equal(nc_get_var_float(nc, id, buf), NC_NOERR);
+  for (size_t i = 0; i < rays * ng * m; i++) assert_true(buf[i] == cimagf(v->iq_v[i]));
+  double el[64];
+  assert_true(rays <= 64);
+  assert_int_equal(nc_inq_varid(nc, "elevation", &id), NC_NOERR);
+  assert_int_equal(nc_get_var_double(nc, id, el), NC_NOERR);
+  assert_close(el[0], 3.0, 0, 0);
+  assert_int_equal(nc_close(nc), NC_NOERR);
+  free(buf);
+  unlink(path);
+  rp_volume_free(v);
+  fixture_free(&f);
+}
+
 /* Bad options: each refused with RP_EINVAL and a message naming the problem. */
 static void test_bad_pulse_options_are_refused(void **state) {
   (void)state;
@@ -417,6 +481,7 @@ int main(void) {
       cmocka_unit_test(test_same_seed_gives_the_same_pulse_volume_on_one_and_two_threads),
       cmocka_unit_test(test_kept_iq_are_the_samples_behind_the_fields),
       cmocka_unit_test(test_width_above_nyquist_and_huge_snr_are_clipped),
+      cmocka_unit_test(test_kept_iq_are_written_whole),
       cmocka_unit_test(test_bad_pulse_options_are_refused),
       cmocka_unit_test(test_noise_equivalent_reflectivity_follows_range_squared),
   };
