@@ -62,11 +62,13 @@ typedef struct {
  * uses it; the fast path forms the same fields from interpolated logarithms with the
  * same conventions and floor):
  *   zh_dbz = 10 log10 Z_h, zv_dbz = 10 log10 Z_v, zdr_db = zh_dbz - zv_dbz,
- *   rho_hv = |zhhvv| / sqrt(Z_h Z_v) (not clipped to 1), delta_hv_deg = arg zhhvv in
+ *   rho_hv = |zhhvv| / sqrt(Z_h Z_v) (<= 1: an excess up to 1e-12, the round-off of
+ *   the ratio for consistent sums, is set to 1), delta_hv_deg = arg zhhvv in
  *   degrees (0 when zhhvv = 0), ldr_db = 10 log10(zhv / Z_h) but never below
  *   RP_LDR_FLOOR_DB (the floor is also used when zhv <= 0), av = ah - adp.
  * Statuses: RP_EINVAL for NULL pointers or a NaN/infinite field; RP_EDOM when Z_h or
- * Z_v is <= 0 ("no drops": nothing scatters back). *out is written only on RP_OK. */
+ * Z_v is <= 0 ("no drops": nothing scatters back) or when |zhhvv|^2 > Z_h Z_v beyond
+ * round-off (rho_hv > 1: inconsistent integrals). *out is written only on RP_OK. */
 rp_status rp_gate_result_from_linear(const rp_gate_linear *lin, rp_gate_result *out,
                                      rp_error *err);
 
@@ -82,7 +84,8 @@ rp_status rp_gate_result_from_linear(const rp_gate_linear *lin, rp_gate_result *
  * evaluated with its own piece; a piece without a knot at its breakpoint is
  * extrapolated to it. At every node the backscatter moments are made consistent
  * (powers >= 0, |<f_hh f_vv*>| <= sqrt(<|f_hh|^2><|f_vv|^2>)), so rho_hv <= 1 holds
- * for every DSD up to round-off. Details in docs/method.md §8.
+ * for every DSD (rp_gate_result_from_linear removes the ratio's round-off). Details in
+ * docs/method.md §8.
  * Opaque; read-only after allocation, so one plan may be shared by threads. */
 typedef struct rp_gate_plan rp_gate_plan;
 

@@ -28,8 +28,9 @@
  *    bicubic Hermite patches, coefficients precomputed per cell.
  * Invariants: plans and fast grids are read-only after allocation (thread-safe to
  * share); evaluation never allocates (spectra use the stored spline coefficients);
- * nothing is interpolated across a shape breakpoint; rho_hv <= 1 up to round-off in
- * both paths. */
+ * nothing is interpolated across a shape breakpoint; rho_hv <= 1 in both paths (by
+ * Cauchy–Schwarz at the nodes, the ratio's last-bit round-off removed; ln(1 - rho_hv)
+ * interpolated, or rho_hv clipped, in the fast path). */
 #include "rainprint/gate.h"
 
 #include <math.h>
@@ -63,6 +64,8 @@ static const double OBLATE_MIN = 1e-3;
 
 /* Slack for comparing diameters that went through decimal round-off (mm). */
 static const double D_SLACK_MM = 1e-9;
+/* Largest excess of rho_hv over 1 taken as round-off of |C| / sqrt(Z_h Z_v). */
+static const double RHO_ROUNDOFF = 1e-12;
 /* 10 / ln 10: natural log -> decibels of a power ratio. */
 static const double DB_PER_NEPER = 4.3429448190325182765;
 
@@ -134,6 +137,15 @@ rp_status rp_gate_result_from_linear(const rp_gate_linear *lin, rp_gate_result *
   /* sqrt of each factor, not of the product: no overflow for huge Z */
   r.rhohv = hypot(lin->zhhvv_re_mm6_m3, lin->zhhvv_im_mm6_m3) /
             (sqrt(lin->zh_mm6_m3) * sqrt(lin->zv_mm6_m3));
+  /* Sums of moments that obey Cauchy–Schwarz with positive weights (plans, beam
+   * averages, temperature interpolation) obey it too: an excess up to RHO_ROUNDOFF is the
+   * round-off of this ratio (measured 2.2e-16) and is removed, so rho_hv <= 1 always;
+   * a larger one means inconsistent integrals and is refused. */
+  if (r.rhohv > 1.0 + RHO_ROUNDOFF)
+    return rp_error_set(err, RP_EDOM,
+                        "gate: rho_hv = %.17g > 1: |<f_hh f_vv*>|^2 exceeds Z_h Z_v "
+                        "(inconsistent linear integrals)", r.rhohv);
+  if (r.rhohv > 1.0) r.rhohv = 1.0;
   r.delta_hv_deg = (lin->zhhvv_re_mm6_m3 == 0.0 && lin->zhhvv_im_mm6_m3 == 0.0)
                        ? 0.0
                        : rad_to_deg(atan2(lin->zhhvv_im_mm6_m3, lin->zhhvv_re_mm6_m3));
