@@ -155,6 +155,43 @@ static void test_radar_temps_interpolation_matches_exact_temperature(void **stat
   rp_radar_model_free(m);
 }
 
+/* A node step that does not divide the range's end (3 C: nodes -12, -9, ... with the
+ * first clipped to the -10 C table): a temperature at the end of the range is that end's
+ * table alone, and one between the clipped node and the next is weighed by the
+ * temperatures the tables hold (before the fix -10 C got 1/3 of the -9 C table). Exact:
+ * one node (round trip through linear sums, 1e-12); between: the linear weights. */
+static void test_radar_temps_clipped_end_node_weighs_true_temperatures(void **state) {
+  (void)state;
+  rp_radar_config c;
+  rp_radar_config_default(&c);
+  c.scatter.method = RP_METHOD_RAYLEIGH;
+  c.freq_ghz[0] = 9.4;
+  c.temp_step_c = 3.0;
+  rp_radar_model *m = NULL;
+  rp_error e = {0};
+  assert_int_equal(rp_radar_model_alloc(&c, &m, &e), RP_OK);
+  rp_radar_temps v;
+  assert_int_equal(rp_radar_model_temps(m, 0, 0.0, -10.0, -8.0, &v, &e), RP_OK);
+  assert_close(v.t0_c, -12.0, 0.0, 1e-12);
+  rp_radar_entry lo, hi;
+  assert_int_equal(rp_radar_model_entry(m, 0, -10.0, 0.0, &lo, &e), RP_OK);
+  assert_int_equal(rp_radar_model_entry(m, 0, -9.0, 0.0, &hi, &e), RP_OK);
+  rp_gate_result a, b, x;
+  rp_gate_linear lin;
+  assert_int_equal(rp_gate_fast_eval(lo.fast, 8000.0, 1.5, 3.0, &a, NULL), RP_OK);
+  assert_int_equal(rp_gate_fast_eval(hi.fast, 8000.0, 1.5, 3.0, &b, NULL), RP_OK);
+  assert_int_equal(rp_radar_temps_eval(&v, -10.0, 8000.0, 1.5, 3.0, &lin, &e), RP_OK);
+  assert_int_equal(rp_gate_result_from_linear(&lin, &x, NULL), RP_OK);
+  assert_close(x.ah_db_km, a.ah_db_km, 1e-12, 0.0);
+  assert_close(x.zh_mm6_m3, a.zh_mm6_m3, 1e-12, 0.0);
+  /* halfway between the -10 C and -9 C tables */
+  assert_int_equal(rp_radar_temps_eval(&v, -9.5, 8000.0, 1.5, 3.0, &lin, &e), RP_OK);
+  assert_close(lin.ah_db_km, 0.5 * (a.ah_db_km + b.ah_db_km), 1e-12, 0.0);
+  /* the attenuation of the two tables differs (else the test could not fail) */
+  assert_true(fabs(a.ah_db_km - b.ah_db_km) > 1e-3 * a.ah_db_km);
+  rp_radar_model_free(m);
+}
+
 static void test_gate_linear_round_trip(void **state) {
   (void)state;
   rp_gate_linear lin = {2000.0, 1500.0, 0.3, 1700.0, 20.0, 0.8, 0.05, 0.01};
@@ -212,6 +249,7 @@ int main(void) {
       cmocka_unit_test(test_radar_model_gate_equals_plan_by_hand),
       cmocka_unit_test(test_radar_model_refuses_bad_keys_and_configs),
       cmocka_unit_test(test_radar_temps_interpolation_matches_exact_temperature),
+      cmocka_unit_test(test_radar_temps_clipped_end_node_weighs_true_temperatures),
       cmocka_unit_test(test_gate_linear_round_trip),
       cmocka_unit_test(test_attenuation_agrees_with_itu_r_p838),
   };

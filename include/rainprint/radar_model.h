@@ -110,7 +110,10 @@ rp_status rp_radar_model_gate(rp_radar_model *m, int band, double temp_c, double
 /* ---- many temperatures, many threads: the view used by volumes ------------------------ */
 
 /* Read-only view of the fast paths of one band and elevation at the temperature nodes
- * covering [tmin_c, tmax_c]: node k at t0_c + k dt_c, fast[k] (borrowed from the model). */
+ * covering [tmin_c, tmax_c]: node k at t0_c + k dt_c, fast[k] (borrowed from the model);
+ * a node beyond [RP_RADAR_TEMP_MIN_C, RP_RADAR_TEMP_MAX_C] (a step that does not divide
+ * the range's end) holds the table at the range's end, and rp_radar_temps_eval weighs
+ * by the temperatures the tables hold. */
 typedef struct {
   size_t n_nodes;
   double t0_c, dt_c;

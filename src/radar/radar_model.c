@@ -283,6 +283,13 @@ rp_status rp_radar_model_gate(rp_radar_model *m, int band, double temp_c, double
 
 /* ---- temperature nodes ----------------------------------------------------------------- */
 
+/* Temperature of the table at node k: t0 + k dt clipped into the permittivity model's
+ * range (with a step that does not divide the range's ends, an end node lies outside). */
+static double node_temp_c(const rp_radar_temps *view, size_t k) {
+  return fmin(fmax(view->t0_c + (double)k * view->dt_c, RP_RADAR_TEMP_MIN_C),
+              RP_RADAR_TEMP_MAX_C);
+}
+
 rp_status rp_radar_model_temps(rp_radar_model *m, int band, double elevation_deg, double tmin_c,
                                double tmax_c, rp_radar_temps *view, rp_error *err) {
   if (m == NULL || view == NULL) return rp_error_set(err, RP_EINVAL, "radar model: NULL argument");
@@ -303,8 +310,7 @@ rp_status rp_radar_model_temps(rp_radar_model *m, int band, double elevation_deg
   view->dt_c = dt;
   view->n_nodes = (size_t)n;
   for (size_t k = 0; k < view->n_nodes; k++) {
-    /* node temperatures clipped into the permittivity model's range */
-    const double t = fmin(fmax(view->t0_c + (double)k * dt, RP_RADAR_TEMP_MIN_C), RP_RADAR_TEMP_MAX_C);
+    const double t = node_temp_c(view, k);
     rp_radar_entry en;
     RP_TRY(rp_radar_model_entry(m, band, t, elevation_deg, &en, err));
     view->fast[k] = en.fast;
@@ -351,6 +357,11 @@ rp_status rp_radar_temps_eval(const rp_radar_temps *view, double temp_c, double 
   if (k >= view->n_nodes - 1) { /* the last node itself */
     k = view->n_nodes - 1;
     w = 0.0;
+  } else {
+    /* An end node beyond the model's range holds the table at the range's end
+     * (rp_radar_model_temps clips it): weigh with the temperatures the nodes hold. */
+    const double ta = node_temp_c(view, k), tb = node_temp_c(view, k + 1);
+    w = fmin(fmax((temp_c - ta) / (tb - ta), 0.0), 1.0);
   }
   rp_gate_result r;
   memset(out, 0, sizeof *out);
