@@ -123,6 +123,12 @@ static void test_bad_files_name_file_line_and_key(void **state) {
       {"elevtext.yaml", "radar:\n  band: C\n  elevations_deg: [0.5, 1.5deg]\n", "radar.elevations_deg[1]", ":3:"},
       {"elevhex.yaml", "radar:\n  band: C\n  elevations_deg:\n    - 0.5\n    - 0x10\n", "'0x10'", ":5:"},
       {"band.yaml", "radar:\n  band: W\n", "radar.band", ":2:"},
+      /* calendar values, not only the digit pattern (the writer's timegm would roll
+       * 2026-02-30 into March, and hour 24 into the next day) */
+      {"date.yaml", "radar:\n  band: C\n  start_time: \"2026-02-30T00:00:00Z\"\n", "radar.start_time", ":3:"},
+      {"month.yaml", "radar:\n  band: C\n  start_time: \"2026-13-01T00:00:00Z\"\n", "radar.start_time", ":3:"},
+      {"hour.yaml", "radar:\n  band: C\n  start_time: \"2026-06-14T24:00:00Z\"\n", "radar.start_time", ":3:"},
+      {"leap.yaml", "radar:\n  band: C\n  start_time: \"2100-02-29T12:00:00Z\"\n", "radar.start_time", ":3:"},
       {"both.yaml", "radar:\n  band: C\n  frequency_ghz: 5.5\n", "not both", ":3:"},
       {"cellkey.yaml", "radar:\n  band: C\nrain:\n  cells:\n    - kind: gaussian\n      x_km: 1\n      y_km: 1\n      nw: 1000\n      d0_mm: 1\n      mu: 1\n", "radius_km", ":5:"},
       {"kind.yaml", "radar:\n  band: C\nrain:\n  cells:\n    - kind: blob\n", "blob", "kind.yaml"},
@@ -143,6 +149,9 @@ static void test_bad_files_name_file_line_and_key(void **state) {
   rp_error e = {0};
   assert_int_equal(rp_scenario_file_load("/nonexistent/x.yaml", NULL, &s, NULL, &e), RP_EIO);
   assert_int_equal(rp_scenario_file_load(NULL, NULL, &s, NULL, &e), RP_EINVAL);
+  /* the last second of a leap day is a valid start */
+  assert_int_equal(rp_scenario_file_load(write_tmp("leapok.yaml", "radar:\n  band: C\n  start_time: \"2028-02-29T23:59:59Z\"\n"), NULL, &s, NULL, &e), RP_OK);
+  assert_string_equal(s.radar.start_time, "2028-02-29T23:59:59Z");
   /* a UTF-8 byte-order mark is accepted and not kept in the text */
   char bom[600];
   snprintf(bom, sizeof bom, "\xEF\xBB\xBF%s", GOOD);

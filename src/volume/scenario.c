@@ -68,6 +68,12 @@ static int in_range(double v, double lo, double hi) { return isfinite(v) && v >=
       return bad_range(key, n, err, (path), (v), (lo), (hi), (unit));     \
   } while (0)
 
+static int digits(const char *t, size_t at, size_t n) {
+  int v = 0;
+  for (size_t i = at; i < at + n; i++) v = 10 * v + (t[i] - '0');
+  return v;
+}
+
 static int time_ok(const char *t) {
   /* yyyy-mm-ddThh:mm:ssZ */
   const char *pat = "dddd-dd-ddTdd:dd:ddZ";
@@ -79,7 +85,15 @@ static int time_ok(const char *t) {
       return 0;
     }
   }
-  return 1;
+  /* a real calendar date and time of day: the writer turns the start into
+   * time_coverage_end through timegm, which would silently roll 2026-02-30 over into
+   * March (a leap second, :60, is not accepted either: timegm has none) */
+  static const int mdays[12] = {31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31};
+  const int y = digits(t, 0, 4), mo = digits(t, 5, 2), d = digits(t, 8, 2);
+  const int leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+  if (mo < 1 || mo > 12) return 0;
+  if (d < 1 || d > mdays[mo - 1] + (mo == 2 && leap)) return 0;
+  return digits(t, 11, 2) <= 23 && digits(t, 14, 2) <= 59 && digits(t, 17, 2) <= 59;
 }
 
 static rp_status check_dsd(const char *prefix, double nw, double d0, double mu, char *key,
@@ -134,7 +148,8 @@ rp_status rp_scenario_check(const rp_scenario *s, char *key, size_t n, rp_error 
   if (!time_ok(r->start_time)) {
     if (key != NULL && n > 0) snprintf(key, n, "%s", "radar.start_time");
     return rp_error_set(err, RP_EINVAL,
-                        "radar.start_time: '%s' is not of the form yyyy-mm-ddThh:mm:ssZ",
+                        "radar.start_time: '%s' is not a UTC date and time of the form "
+                        "yyyy-mm-ddThh:mm:ssZ",
                         r->start_time);
   }
   CHECK("atmosphere.surface_temperature_c", s->surface_temperature_c, 0.0, 45.0, "C");
