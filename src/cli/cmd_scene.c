@@ -32,7 +32,8 @@ static const rp_opts_spec scene_opts[] = {
                      "for every gate above sensitivity (PRT from its Nyquist velocity, SNR "
                      "from its sensitivity) and estimate DBZ, ZDR, PHIDP, RHOHV, VEL, WIDTH "
                      "from them instead of the noise formulas (turns the noise on; LDRH keeps "
-                     "the formula noise; about 3 s per million gates and core at 64 pulses)"),
+                     "the formula noise; about 6 s per million gates above sensitivity and core "
+                     "at 64 pulses)"),
     RP_OPTS_LONG_ROW("keep-iq", "SWEEP", "with --pulses: keep the I/Q of sweep SWEEP (0-based) "
                      "and write them with --iq-out (16 bytes per pulse and gate: 64 pulses, "
                      "360 rays x 1000 gates make 369 MB)", 0, 2147483647L, RP_OPTS_RANGED, NULL),
