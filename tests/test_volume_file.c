@@ -204,6 +204,83 @@ static void test_written_file_reads_back(void **state) {
   model_close(&f);
 }
 
+/* text attribute or 1-D char variable as a NUL-terminated string ("" when absent) */
+static void nc_text(int nc, int var, const char *att, char *out, size_t n) {
+  out[0] = '\0';
+  size_t len = 0;
+  if (att != NULL) {
+    if (nc_inq_attlen(nc, var, att, &len) != NC_NOERR || len >= n) return;
+    if (nc_get_att_text(nc, var, att, out) != NC_NOERR) return;
+  } else {
+    int dim;
+    if (nc_inq_vardimid(nc, var, &dim) != NC_NOERR || nc_inq_dimlen(nc, dim, &len) != NC_NOERR ||
+        len >= n || nc_get_var_text(nc, var, out) != NC_NOERR)
+      return;
+  }
+  out[len] = '\0';
+}
+
+/* CF/Radial 1.4 metadata beyond the variable list (the open convention, section on
+ * sub-conventions: a file declares in `Conventions` every sub-convention whose
+ * meta_group it uses; `time` counts seconds since time_coverage_start, and
+ * time_coverage_end is a real calendar time at or after the last ray, here across a
+ * year boundary). */
+static void test_file_metadata_follows_cf_radial(void **state) {
+  (void)state;
+  rp_scenario s;
+  small_scene(&s);
+  s.radar.n_elevations = 1;
+  s.radar.pulses = 1024; /* 72 rays of 1.024 s: the last ray starts 72.704 s in */
+  snprintf(s.radar.start_time, sizeof s.radar.start_time, "%s", "2026-12-31T23:59:50Z");
+  model_fixture f;
+  rp_error e = {0};
+  assert_int_equal(model_open(&s, &f, &e), RP_OK);
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, rp_volume_model_physics(f.vm), &o, &v, &e), RP_OK);
+  char path[256];
+  snprintf(path, sizeof path, "/tmp/rp_test_volume_meta_%d.nc", (int)getpid());
+  assert_int_equal(rp_volume_file_write(v, path, NULL, &e), RP_OK);
+  int nc, nvars = 0;
+  assert_int_equal(nc_open(path, NC_NOWRITE, &nc), NC_NOERR);
+  char conv[256], group[128], txt[128];
+  nc_text(nc, NC_GLOBAL, "Conventions", conv, sizeof conv);
+  assert_int_equal(strncmp(conv, "CF/Radial-1.4", 13), 0);
+  assert_int_equal(nc_inq_nvars(nc, &nvars), NC_NOERR);
+  int groups_seen = 0;
+  for (int id = 0; id < nvars; id++) {
+    nc_text(nc, id, "meta_group", group, sizeof group);
+    if (group[0] == '\0') continue;
+    groups_seen++;
+    /* the group must appear as a whole word of Conventions */
+    char padded[300], word[140];
+    snprintf(padded, sizeof padded, " %s ", conv);
+    snprintf(word, sizeof word, " %s ", group);
+    char name[NC_MAX_NAME + 1];
+    nc_inq_varname(nc, id, name);
+    if (strstr(padded, word) == NULL)
+      print_error("%s: meta_group '%s' not declared in Conventions '%s'\n", name, group, conv);
+    assert_non_null(strstr(padded, word));
+  }
+  assert_true(groups_seen >= 7); /* the instrument and radar parameters were looked at */
+  int id;
+  assert_int_equal(nc_inq_varid(nc, "time_coverage_start", &id), NC_NOERR);
+  nc_text(nc, id, NULL, txt, sizeof txt);
+  assert_string_equal(txt, "2026-12-31T23:59:50Z");
+  assert_int_equal(nc_inq_varid(nc, "time", &id), NC_NOERR);
+  nc_text(nc, id, "units", txt, sizeof txt);
+  assert_string_equal(txt, "seconds since 2026-12-31T23:59:50Z");
+  /* 71 x 1.024 s = 72.704 s, rounded up to whole seconds: 23:59:50 + 73 s */
+  assert_int_equal(nc_inq_varid(nc, "time_coverage_end", &id), NC_NOERR);
+  nc_text(nc, id, NULL, txt, sizeof txt);
+  assert_string_equal(txt, "2027-01-01T00:01:03Z");
+  nc_close(nc);
+  remove(path);
+  rp_volume_free(v);
+  model_close(&f);
+}
+
 /* A user's retrieval: only time and range dimensions, a short field with scale_factor,
  * add_offset and _FillValue, a double field with valid_max. The reader applies the
  * scaling (CF conventions), turns fill and out-of-range values into NaN, and sees one
@@ -280,6 +357,7 @@ int main(int argc, char **argv) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_model_binding_matches_direct_gate),
       cmocka_unit_test(test_written_file_reads_back),
+      cmocka_unit_test(test_file_metadata_follows_cf_radial),
       cmocka_unit_test(test_reader_takes_a_plain_retrieval_file),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);

@@ -5,7 +5,7 @@
  * the 4/3-earth model, beam.h, is used as the map distance). Heights are above mean sea
  * level. Every key, its units, default and allowed range: docs/scenario.md.
  *
- * Rain field (docs/notes/volume.md, "rain field"): each cell has a weight w in [0, 1]
+ * Rain field (docs/method.md §13.3 and docs/scenario.md, "Blending"): each cell has a weight w in [0, 1]
  *   gaussian: w = exp(-r^2 / (2 R^2)), r the distance to the centre, R = radius_km;
  *   line:     w = exp(-v^2 / (2 s^2)) * g(u), s = width_km / 2, u along the line axis
  *             (orientation_deg clockwise from north), v across it, g = 1 for

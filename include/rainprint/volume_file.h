@@ -6,8 +6,9 @@
  * variables of the convention for a fixed ground radar (volume_number,
  * time_coverage_start/end, latitude, longitude, altitude, time, range, sweep_number,
  * sweep_mode, fixed_angle, sweep_start_ray_index, sweep_end_ray_index, azimuth,
- * elevation), instrument_parameters (frequency, prt, nyquist_velocity, n_samples,
- * radar_beam_width_h/v, polarization_mode), and one float (time, range) variable per
+ * elevation), instrument_parameters (frequency, pulse_width, prt, nyquist_velocity,
+ * n_samples, polarization_mode) and radar_parameters (radar_beam_width_h/v), both
+ * declared in Conventions, and one float (time, range) variable per
  * field of volume.h with units, _FillValue (-9999), long_name, standard_name for the
  * observed ones, coordinates "elevation azimuth range", and field_folds/fold limits on
  * VEL. The flag field is a byte variable with CF flag_values / flag_meanings.

@@ -1,5 +1,5 @@
 /* volume_file.c — CF/Radial 1.4 netCDF-4 writer and field reader for synthetic volumes
- * (layout in volume_file.h; the convention's facts in docs/notes/volume.md).
+ * (layout in volume_file.h; the convention's facts in docs/method.md §13.9).
  *
  * Method: define everything, then write; the file is built under a temporary name and
  * renamed into place only when nc_close succeeded (rp_tempfile_*), so a failed write
@@ -73,7 +73,7 @@ static rp_status write_all(int nc, const rp_volume *v, const char *path, const c
   add_seconds(r->start_time, v->n_rays > 0 ? v->time_s[v->n_rays - 1] : 0.0, end_time,
               sizeof end_time);
   /* global attributes */
-  RP_NC_TRY(rp_nc_put_text(nc, NC_GLOBAL, "Conventions", "CF/Radial-1.4 instrument_parameters"), path, "attribute", "Conventions", "cannot write");
+  RP_NC_TRY(rp_nc_put_text(nc, NC_GLOBAL, "Conventions", "CF/Radial-1.4 instrument_parameters radar_parameters"), path, "attribute", "Conventions", "cannot write");
   RP_NC_TRY(rp_nc_put_text(nc, NC_GLOBAL, "version", "1.4"), path, "attribute", "version", "cannot write");
   RP_NC_TRY(rp_nc_put_text(nc, NC_GLOBAL, "title", "rainprint synthetic radar volume with known truth"), path, "attribute", "title", "cannot write");
   RP_NC_TRY(rp_nc_put_text(nc, NC_GLOBAL, "institution", "rainprint (synthetic data)"), path, "attribute", "institution", "cannot write");
@@ -98,6 +98,9 @@ static rp_status write_all(int nc, const rp_volume *v, const char *path, const c
     unsigned long long seed = v->seed;
     RP_NC_TRY(nc_put_att_ulonglong(nc, NC_GLOBAL, "seed", NC_UINT64, 1, &seed), path, "attribute", "seed", "cannot write");
     RP_NC_TRY(rp_nc_put_text(nc, NC_GLOBAL, "noise", v->noise ? "true" : "false"), path, "attribute", "noise", "cannot write");
+    RP_NC_TRY(rp_nc_put_text(nc, NC_GLOBAL, "observation_model",
+                             !v->noise ? "exact" : (v->pulses ? "pulse_level" : "formula_noise")),
+              path, "attribute", "observation_model", "cannot write");
     double fl = isfinite(v->freezing_level_m) ? v->freezing_level_m : -9999.0;
     RP_NC_TRY(nc_put_att_double(nc, NC_GLOBAL, "freezing_level_m", NC_DOUBLE, 1, &fl), path, "attribute", "freezing_level_m", "cannot write");
   }

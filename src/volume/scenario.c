@@ -1,7 +1,7 @@
 /* scenario.c — defaults, validation and the fields (rain, wind, temperature) of a
  * synthetic radar scene.
  *
- * Method: the rain-field and wind rules are in scenario.h (docs/notes/volume.md); the
+ * Method: the rain-field and wind rules are in scenario.h (docs/method.md §13.3); the
  * temperature falls linearly with height above the radar at lapse_rate_c_per_km, so the
  * freezing level is altitude + 1000 T_s / lapse. The Nyquist velocity is
  * v_a = lambda PRF / 4 (Doviak & Zrnić 1993 §3.6, from memory).
