@@ -111,6 +111,8 @@ for name in ["truth_zh_dbz", "truth_phidp_deg", "truth_velocity_ms"]:
 for name in ["DBZ", "ZDR", "PHIDP", "KDP", "RHOHV", "VEL", "WIDTH"]:
     assert np.array_equal(p[name][:].filled(np.nan), p2[name][:].filled(np.nan), equal_nan=True), name
 assert not np.array_equal(p["DBZ"][:].filled(np.nan), f["DBZ"][:].filled(np.nan), equal_nan=True)
+# the file says how its observed fields were made
+assert p.observation_model == "pulse_level" and f.observation_model == "formula_noise"
 r0, r1 = int(p["sweep_start_ray_index"][1]), int(p["sweep_end_ray_index"][1])
 assert iq.sweep == 1 and iq.n_pulses == 64 and len(iq.dimensions["ray"]) == r1 - r0 + 1
 h = iq["h_re"][:].astype(np.float64) + 1j * iq["h_im"][:].astype(np.float64)
