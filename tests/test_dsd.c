@@ -645,6 +645,12 @@ static void test_dsd_bounds_refuse_unphysical_inputs(void **state) {
   assert_int_equal(rp_dsd_gamma(&d, 1.0, 0.0, 1.0, &e), RP_OK);
   d.n0 = 1e306;
   assert_int_equal(rp_dsd_moments_eval(&d, RP_FALL_ATLAS, 1.0, &m, &e), RP_EDOM);
+  /* a truncation window far in the tail: M3 denormal, LWC 0 (found by fuzz_preset) */
+  assert_int_equal(rp_dsd_gamma(&d, 2e4, 2.5, 145.0, &e), RP_OK);
+  assert_int_equal(rp_dsd_set_truncation(&d, 5.2, 7.0, &e), RP_OK);
+  assert_int_equal(rp_dsd_moments_eval(&d, RP_FALL_ATLAS, 1.0, &m, &e), RP_EDOM);
+  assert_non_null(strstr(e.msg, "almost no water"));
+  assert_int_equal(rp_dsd_gamma(&d, 1.0, 0.0, 1.0, &e), RP_OK);
   d.n0 = 1e20; /* finite everywhere, but 10^16 g m^-3 */
   assert_int_equal(rp_dsd_moments_eval(&d, RP_FALL_ATLAS, 1.0, &m, &e), RP_EDOM);
   assert_non_null(strstr(e.msg, "liquid water content"));

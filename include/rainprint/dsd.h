@@ -162,8 +162,9 @@ rp_status rp_dsd_moment(const rp_dsd *d, double n, double *m, rp_error *err);
  * where it crosses 0.5 (spectra).
  * Every field of a successful result is finite.
  * Returns RP_OK; RP_EINVAL (NULL, density_factor not finite or <= 0, malformed d);
- * RP_EDOM (no water in the interval: M3 = 0, e.g. an empty spectrum; a result that is
- * not finite or an LWC above RP_DSD_LWC_MAX, e.g. from a hand-edited DSD); RP_ENOCONV
+ * RP_EDOM (no water in the interval: M3 = 0, e.g. an empty spectrum, or an LWC below
+ * RP_DSD_LWC_MIN, e.g. a truncation far in the tail; a result that is not finite or
+ * an LWC above RP_DSD_LWC_MAX, e.g. from a hand-edited DSD); RP_ENOCONV
  * (quadrature or root finder did not converge); RP_EGSL; or any status of
  * rp_fallspeed_eval, with its message. */
 rp_status rp_dsd_moments_eval(const rp_dsd *d, rp_fall_model fall, double density_factor,

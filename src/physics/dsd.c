@@ -658,6 +658,12 @@ rp_status rp_dsd_moments_eval(const rp_dsd *d, rp_fall_model fall, double densit
   if (r.lwc_g_m3 > RP_DSD_LWC_MAX)
     return rp_error_set(err, RP_EDOM, "%s DSD: liquid water content %g g m^-3 above %g g m^-3",
                         rp_dsd_model_name(d->model), r.lwc_g_m3, RP_DSD_LWC_MAX);
+  /* a window far in the tail (e.g. Lambda = 145 mm^-1 over [5.2, 7] mm) leaves M3 a
+   * denormal and the LWC 0 after rounding: no water, not a result (found by fuzz_preset) */
+  if (r.lwc_g_m3 < RP_DSD_LWC_MIN)
+    return rp_error_set(err, RP_EDOM, "%s DSD holds almost no water in [%g, %g] mm (LWC %g "
+                        "g m^-3, below %g g m^-3)", rp_dsd_model_name(d->model), d->dmin_mm,
+                        d->dmax_mm, r.lwc_g_m3, RP_DSD_LWC_MIN);
   *out = r;
   return RP_OK;
 }
