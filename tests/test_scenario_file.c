@@ -123,6 +123,15 @@ static void test_bad_files_name_file_line_and_key(void **state) {
       {"elevtext.yaml", "radar:\n  band: C\n  elevations_deg: [0.5, 1.5deg]\n", "radar.elevations_deg[1]", ":3:"},
       {"elevhex.yaml", "radar:\n  band: C\n  elevations_deg:\n    - 0.5\n    - 0x10\n", "'0x10'", ":5:"},
       {"band.yaml", "radar:\n  band: W\n", "radar.band", ":2:"},
+      /* integer keys take whole numbers only (2.5 gave 2 gates, 1e3 one gate, -3 a
+       * wrapped seed, all silently) */
+      {"gatesfrac.yaml", "radar:\n  band: C\n  gates: 2.5\n", "radar.gates", ":3:"},
+      {"gatesexp.yaml", "radar:\n  band: C\n  gates: 1e3\n", "'1e3'", ":3:"},
+      {"seedneg.yaml", "seed: -3\nradar:\n  band: C\n", "seed: '-3'", ":1:"},
+      {"pulsesfrac.yaml", "radar:\n  band: C\n  pulses: 64.0\n", "radar.pulses", ":3:"},
+      {"kdpwin.yaml", "radar:\n  band: C\nkdp_window_gates: 9.5\n", "kdp_window_gates", ":3:"},
+      /* a Nyquist velocity whose PRF is out of range is reported under its own key */
+      {"nyq.yaml", "radar:\n  band: C\n  nyquist_ms: 200\n", "radar.nyquist_ms", ":3:"},
       /* calendar values, not only the digit pattern (the writer's timegm would roll
        * 2026-02-30 into March, and hour 24 into the next day) */
       {"date.yaml", "radar:\n  band: C\n  start_time: \"2026-02-30T00:00:00Z\"\n", "radar.start_time", ":3:"},
@@ -149,6 +158,9 @@ static void test_bad_files_name_file_line_and_key(void **state) {
   rp_error e = {0};
   assert_int_equal(rp_scenario_file_load("/nonexistent/x.yaml", NULL, &s, NULL, &e), RP_EIO);
   assert_int_equal(rp_scenario_file_load(NULL, NULL, &s, NULL, &e), RP_EINVAL);
+  /* the largest seed is a whole number and loads */
+  assert_int_equal(rp_scenario_file_load(write_tmp("seedmax.yaml", "seed: 18446744073709551615\nradar:\n  band: C\n"), NULL, &s, NULL, &e), RP_OK);
+  assert_true(s.seed == 18446744073709551615ULL);
   /* the last second of a leap day is a valid start */
   assert_int_equal(rp_scenario_file_load(write_tmp("leapok.yaml", "radar:\n  band: C\n  start_time: \"2028-02-29T23:59:59Z\"\n"), NULL, &s, NULL, &e), RP_OK);
   assert_string_equal(s.radar.start_time, "2028-02-29T23:59:59Z");

@@ -191,7 +191,8 @@ static const char *const numeric_keys[] = {
 typedef struct {
   char path[96];
   unsigned line, column;
-  char text[64]; /* the scalar of a sequence item ("" otherwise) */
+  char text[64]; /* the scalar of a sequence item or of a key's value ("" otherwise) */
+  int is_value;  /* 1: the entry is a mapping value (text is the key's scalar value) */
 } key_line;
 
 typedef struct {
@@ -200,7 +201,7 @@ typedef struct {
 } key_lines;
 
 static void add_line(key_lines *kl, const char *path, unsigned line, unsigned column,
-                     const char *text) {
+                     const char *text, int is_value) {
   if (kl->n == kl->cap) {
     const size_t nc = kl->cap ? 2 * kl->cap : 64;
     key_line *nv = realloc(kl->v, nc * sizeof *nv);
@@ -212,6 +213,7 @@ static void add_line(key_lines *kl, const char *path, unsigned line, unsigned co
   kl->v[kl->n].line = line;
   kl->v[kl->n].column = column;
   snprintf(kl->v[kl->n].text, sizeof kl->v[kl->n].text, "%s", text != NULL ? text : "");
+  kl->v[kl->n].is_value = is_value;
   kl->n++;
 }
 
@@ -242,7 +244,7 @@ static void scan_lines(const char *data, size_t n, key_lines *kl) {
     if (depth >= 0 && st[depth].is_seq &&
         (t == YAML_MAPPING_START_EVENT || t == YAML_SEQUENCE_START_EVENT || t == YAML_SCALAR_EVENT))
       add_line(kl, here, (unsigned)e.start_mark.line + 1, (unsigned)e.start_mark.column + 1,
-               t == YAML_SCALAR_EVENT ? (const char *)e.data.scalar.value : NULL);
+               t == YAML_SCALAR_EVENT ? (const char *)e.data.scalar.value : NULL, 0);
     if (t == YAML_MAPPING_START_EVENT || t == YAML_SEQUENCE_START_EVENT) {
       if (depth + 1 < 16) {
         depth++;
@@ -264,11 +266,14 @@ static void scan_lines(const char *data, size_t n, key_lines *kl) {
           snprintf(pending, sizeof pending, "%.60s.%.30s", st[depth].prefix, key);
         else
           snprintf(pending, sizeof pending, "%.60s", key);
-        add_line(kl, pending, (unsigned)e.start_mark.line + 1, (unsigned)e.start_mark.column + 1, NULL);
+        add_line(kl, pending, (unsigned)e.start_mark.line + 1, (unsigned)e.start_mark.column + 1, NULL, 0);
         st[depth].expect_key = 0;
       } else if (st[depth].is_seq) {
         st[depth].index++;
       } else {
+        /* a key's scalar value: kept for the whole-number check of integer keys */
+        add_line(kl, pending, (unsigned)e.start_mark.line + 1, (unsigned)e.start_mark.column + 1,
+                 (const char *)e.data.scalar.value, 1);
         st[depth].expect_key = 1;
       }
     }
@@ -289,6 +294,31 @@ static rp_status check_list_numbers(const key_lines *kl, const char *path, rp_er
     if (rp_decimal_parse(kl->v[i].text, &x) != RP_DECIMAL_OK)
       return rp_error_set(err, RP_EPARSE, "%s:%u:%u: %s: '%s' is not a plain decimal number",
                           path, kl->v[i].line, kl->v[i].column, kl->v[i].path, kl->v[i].text);
+  }
+  return RP_OK;
+}
+
+/* The integer keys must be written as whole numbers of plain digits: libcyaml reads an
+ * unsigned field with strtoull-like parsing and the shared pre-scan accepts any plain
+ * decimal, so "gates: 2.5" gave 2 gates, "gates: 1e3" gave 1 and "seed: -3" wrapped to
+ * 2^64 - 3, all silently. */
+static rp_status check_whole_numbers(const key_lines *kl, const char *path, rp_error *err) {
+  static const char *const int_keys[] = {"radar.gates", "radar.pulses", "seed", "beam_samples",
+                                         "kdp_window_gates"};
+  for (size_t i = 0; i < kl->n; i++) {
+    if (!kl->v[i].is_value) continue;
+    int is_int_key = 0;
+    for (size_t k = 0; k < sizeof int_keys / sizeof int_keys[0]; k++)
+      if (strcmp(kl->v[i].path, int_keys[k]) == 0) is_int_key = 1;
+    if (!is_int_key) continue;
+    const char *t = kl->v[i].text;
+    int ok = t[0] != '\0';
+    for (const char *c = t; *c != '\0'; c++)
+      if (*c < '0' || *c > '9') ok = 0;
+    if (!ok)
+      return rp_error_set(err, RP_EPARSE,
+                          "%s:%u:%u: %s: '%s' is not a whole number (digits 0-9 only)", path,
+                          kl->v[i].line, kl->v[i].column, kl->v[i].path, t);
   }
   return RP_OK;
 }
@@ -360,7 +390,17 @@ static rp_status fill(const scen_doc *d, const char *path, const char *presets_d
       snprintf(key, nkey, "radar.nyquist_ms");
       return rp_error_set(err, RP_EPARSE, "radar.nyquist_ms: %g m/s must be > 0", *r->nyquist_ms);
     }
-    R->prf_hz = 4.0 * *r->nyquist_ms / rp_scenario_wavelength_m(s); /* v_a = lambda PRF / 4 */
+    const double lambda_m = rp_scenario_wavelength_m(s);
+    R->prf_hz = 4.0 * *r->nyquist_ms / lambda_m; /* v_a = lambda PRF / 4 */
+    /* the PRF's range, stated for the key the user wrote (not radar.prf_hz) */
+    const double lo = lambda_m * 100.0 / 4.0, hi = lambda_m * 10000.0 / 4.0;
+    if (!(R->prf_hz >= 100.0 && R->prf_hz <= 10000.0)) {
+      snprintf(key, nkey, "radar.nyquist_ms");
+      return rp_error_set(err, RP_EPARSE,
+                          "radar.nyquist_ms: %g m/s is outside the allowed range [%.3g, %.3g] "
+                          "at %g GHz (PRF 100 to 10000 Hz)",
+                          *r->nyquist_ms, lo, hi, R->frequency_ghz);
+    }
   }
   if (r->pulses != NULL) R->pulses = (int)(*r->pulses > 100000 ? 100000 : *r->pulses);
   SET(R->sensitivity_dbz_at_10km, r->sensitivity_dbz_at_10km);
@@ -507,6 +547,7 @@ rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_sc
   key_lines kl = {NULL, 0, 0};
   scan_lines(data, n, &kl);
   st = check_list_numbers(&kl, path, err);
+  if (st == RP_OK) st = check_whole_numbers(&kl, path, err);
   rp_scenario *s = st == RP_OK ? malloc(sizeof *s) : NULL;
   if (s == NULL) {
     rp_yaml_free(&doc_schema, raw);
