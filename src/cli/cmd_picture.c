@@ -32,7 +32,7 @@ static const rp_opts_spec picture_opts[] = {
     RP_OPTS_DOUBLE_ROW("range-max", "KM", "draw out to this range (default: every gate)", 0.0,
                        5000.0, RP_OPTS_RANGED | RP_OPTS_LO_OPEN, NULL),
     RP_OPTS_DOUBLE_ROW("vmin", "X", "lower end of the colour scale (default: the field's display "
-                       "range)", -1e9, 1e9, RP_OPTS_RANGED, NULL),
+                       "range; not with --all)", -1e9, 1e9, RP_OPTS_RANGED, NULL),
     RP_OPTS_DOUBLE_ROW("vmax", "X", "upper end of the colour scale", -1e9, 1e9, RP_OPTS_RANGED, NULL),
     RP_OPTS_STRING_ROW("out", "FILE.png", "the picture (.png, .svg or .pdf; required)"),
     RP_OPTS_END};
@@ -118,9 +118,9 @@ static int no_such_field(const rp_volume_reader *r, const char *path, const char
 
 /* Colour scale: the display range, the field's own when unknown (finite min..max), the
  * velocity map symmetric about 0, options on top. */
-static void scale_for(const char *name, const double *values, size_t n, const rp_opts *o,
-                      double nyquist_ms, rp_figure_scale *s, char *label, size_t label_len,
-                      const char *units) {
+static int scale_for(const char *name, const double *values, size_t n, const rp_opts *o,
+                     double nyquist_ms, rp_figure_scale *s, char *label, size_t label_len,
+                     const char *units) {
   const display *d = find_display(name);
   double lo = d ? d->vmin : (double)NAN, hi = d ? d->vmax : (double)NAN;
   s->colormap = d ? d->cmap : RP_FIGURE_CMAP_VIRIDIS;
@@ -146,8 +146,16 @@ static void scale_for(const char *name, const double *values, size_t n, const rp
       hi = c + 1.0;
     }
   }
-  if (rp_opts_given(o, "vmin")) lo = rp_opts_double(o, "vmin", lo);
-  if (rp_opts_given(o, "vmax")) hi = rp_opts_double(o, "vmax", hi);
+  const int given_lo = rp_opts_given(o, "vmin"), given_hi = rp_opts_given(o, "vmax");
+  if (given_lo) lo = rp_opts_double(o, "vmin", lo);
+  if (given_hi) hi = rp_opts_double(o, "vmax", hi);
+  /* one end given and past the other end of the field's own scale: say which option */
+  if (given_lo && !given_hi && !(lo < hi))
+    return rp_cli_fail(CMD, RP_EINVAL, "--vmin %g is not below the upper end %g of the colour "
+                       "scale of %s: give --vmax too", lo, hi, name);
+  if (given_hi && !given_lo && !(lo < hi))
+    return rp_cli_fail(CMD, RP_EINVAL, "--vmax %g is not above the lower end %g of the colour "
+                       "scale of %s: give --vmin too", hi, lo, name);
   s->vmin = lo;
   s->vmax = hi;
   if (d)
@@ -155,6 +163,7 @@ static void scale_for(const char *name, const double *values, size_t n, const rp
   else
     snprintf(label, label_len, "%s (%s)", name, units[0] ? units : "1");
   s->label = label;
+  return 0;
 }
 
 /* Gates within --range-max. */
@@ -208,8 +217,9 @@ static int load_ppi(const rp_volume_reader *r, const char *name, size_t k, const
   fp->ppi.values = p->values;
   fp->xlabel = "x (km east)";
   fp->ylabel = "y (km north)";
-  scale_for(name, p->values, na * ng, o, nyquist_ms, &fp->scale, p->label, sizeof p->label,
-            p->cut.units);
+  int rc = scale_for(name, p->values, na * ng, o, nyquist_ms, &fp->scale, p->label,
+                     sizeof p->label, p->cut.units);
+  if (rc) return rc;
   snprintf(p->title, sizeof p->title, "%s", name);
   fp->title = p->title;
   return 0;
@@ -257,6 +267,10 @@ int rp_cmd_picture(int argc, char **argv) {
   if ((rc = rp_opts_exclusive(&o, "all", "rhi", (const char *)NULL))) return rc;
   if ((rc = rp_opts_exclusive(&o, "all", "field", (const char *)NULL))) return rc;
   if ((rc = rp_opts_exclusive(&o, "rhi", "sweep", (const char *)NULL))) return rc;
+  /* one colour scale cannot serve fields of different units (dBZ, dB, m/s, ...) */
+  if ((rc = rp_opts_exclusive(&o, "all", "vmin", (const char *)NULL)) ||
+      (rc = rp_opts_exclusive(&o, "all", "vmax", (const char *)NULL)))
+    return rc;
   const char *path = o.pos[0], *out = rp_opts_string(&o, "out", NULL);
   if ((rc = rp_cli_check_outputs(CMD, NULL, NULL)) || (rc = rp_cli_check_output(CMD, "out", out)))
     return rc;
@@ -331,12 +345,12 @@ int rp_cmd_picture(int argc, char **argv) {
       p.rhi.values = vals;
       p.xlabel = "ground range (km)";
       p.ylabel = "height above the radar (km)";
-      scale_for(field, vals, nr * ng, &o, nyquist, &p.scale, label, sizeof label, c.units);
+      rc = scale_for(field, vals, nr * ng, &o, nyquist, &p.scale, label, sizeof label, c.units);
       snprintf(ptitle, sizeof ptitle, "%s, range-height cut at azimuth %.1f°", field, az);
       p.title = ptitle;
       snprintf(subtitle, sizeof subtitle, "%zu sweeps, 4/3-earth beam heights; %s", nr, src);
       rp_figure fig = {title, subtitle, &p, 1, 1, 1100, 620};
-      rc = draw(out, &fig);
+      if (rc == 0) rc = draw(out, &fig);
     }
     free(cg);
     free(ch);

@@ -48,6 +48,13 @@ int rp_cmd_table(int argc, char **argv) {
   if (dstep > dmax - dmin)
     return rp_cli_fail("table", RP_EINVAL, "--dstep %g is more than --dmax - --dmin = %g", dstep,
                        dmax - dmin);
+  /* The grid is dmin + i dstep up to dmax (rp_table_build): say so when it stops short of
+   * --dmax, since gate and curve then refuse the default 8 mm truncation with this table. */
+  const double last = dmin + floor((dmax - dmin) / dstep + 1e-9) * dstep;
+  if (dmax - last > 1e-9)
+    fprintf(stderr, "rainprint table: note: --dmax %g - --dmin %g is not a multiple of --dstep "
+            "%g: the table ends at %.4g mm (give a --dstep that divides the range to reach "
+            "%g mm)\n", dmax, dmin, dstep, last, dmax);
   rp_cli_scatter s;
   if ((rc = rp_cli_scatter_from_opts(&o, &s))) return rc;
   s.json = rp_opts_given(&o, "json");

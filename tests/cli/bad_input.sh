@@ -176,6 +176,20 @@ bad_case "unknown option '--all'" "$rp" cache clear --all
 bad_case "did you mean '--verbose'?" "$rp" presets --verbos
 
 # ---- scene, picture, score, pulses (the lead adds their cases here) ---------------------
+# picture: a colour-scale end given alone that crosses the field's own other end names the
+# option (it used to fail inside the figure as "--out: ... panel 0: colour scale [70, 65]");
+# one scale for every field of --all is refused
+cat >"$work/tiny.yaml" <<'YAML'
+radar: {name: Tinmoor Test X, band: X, gate_spacing_m: 1000, gates: 20, elevations_deg: [0.5, 3.0], azimuth_step_deg: 10}
+rain: {background: {nw: 3000, d0_mm: 1.2, mu: 3}}
+YAML
+"$rp" scene "$work/tiny.yaml" --out "$work/tiny.nc" --seed 2 >/dev/null 2>&1 || bad "making tiny.nc"
+bad_case "--vmin 70 is not below the upper end 65 of the colour scale of DBZ: give --vmax too" \
+  "$rp" picture "$work/tiny.nc" --vmin 70 --out "$out/p.png"
+bad_case "--vmax -20 is not above the lower end -1 of the colour scale of ZDR: give --vmin too" \
+  "$rp" picture "$work/tiny.nc" --field ZDR --rhi 30 --vmax -20 --out "$out/p.png"
+bad_case "give either --all or --vmin, not both" "$rp" picture "$work/tiny.nc" --all --vmin 0 --out "$out/p.png"
+bad_case "give either --all or --vmax, not both" "$rp" picture "$work/tiny.nc" --all --vmax 5 --out "$out/p.png"
 
 echo "$cases bad inputs"
 [[ $cases -ge 60 ]] && ok || bad "fewer than 60 bad inputs ($cases)"

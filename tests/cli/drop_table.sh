@@ -68,6 +68,13 @@ assert r["band"] == "S" and r["frequency_ghz"] == 2.8 and r["temperature_c"] == 
 assert r["diameters"] >= 6 and r["dmin_mm"] == 0.5 and r["dmax_mm"] == 3, r
 assert r["out"].endswith("/s.nc"), r
 PY
+# a step that does not divide --dmax - --dmin: the grid stops short of --dmax, and the tool
+# says so on stderr (gate then refuses its default 8 mm truncation with this table)
+expect 0 "$rp" table --band S --dmin 0.5 --dmax 3 --dstep 0.5 --out "$work/s.nc"
+[[ ! -s "$work/err" ]] && ok || bad "a note for a step that divides the range: $(cat "$work/err")"
+expect 0 "$rp" table --band S --dmin 0.5 --dmax 3 --dstep 0.75 --out "$work/s.nc"
+has "the table ends at 2.75 mm" err
+has "0.500..2.750 mm" out
 expect 2 "$rp" table --band S
 expect 2 "$rp" table --band S --out "$work/no-such-dir/s.nc"
 [[ ! -e "$work/no-such-dir" ]] && ok || bad "partial output"
