@@ -130,6 +130,8 @@ static void test_bad_files_name_file_line_and_key(void **state) {
       {"seedneg.yaml", "seed: -3\nradar:\n  band: C\n", "seed: '-3'", ":1:"},
       {"pulsesfrac.yaml", "radar:\n  band: C\n  pulses: 64.0\n", "radar.pulses", ":3:"},
       {"kdpwin.yaml", "radar:\n  band: C\nkdp_window_gates: 9.5\n", "kdp_window_gates", ":3:"},
+      /* a ray longer than 600 km is reported at the line of gates */
+      {"reach.yaml", "radar:\n  band: C\n  gates: 4000\n  gate_spacing_m: 500\n", "radar.gates", ":3:"},
       /* a Nyquist velocity whose PRF is out of range is reported under its own key */
       {"nyq.yaml", "radar:\n  band: C\n  nyquist_ms: 200\n", "radar.nyquist_ms", ":3:"},
       /* calendar values, not only the digit pattern (the writer's timegm would roll
