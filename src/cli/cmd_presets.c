@@ -76,7 +76,8 @@ int rp_cmd_presets(int argc, char **argv) {
     return rc;
   }
   if (json) return rp_json_print(arr);
-  printf("(S band 2.8 GHz, 10 C, default shape and canting; Nw for normalised gammas, N0 otherwise; "
-         "D0 is the median volume diameter.)\n");
+  printf("(S band 2.8 GHz, 10 C, default shape and canting; Nw for normalised gammas (the "
+         "parameter of the preset's D0 or Dm form; rainprint gate prints the Dm-based Nw of the "
+         "DSD), N0 otherwise; D0 is the median volume diameter.)\n");
   return RP_EXIT_OK;
 }

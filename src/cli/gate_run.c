@@ -179,7 +179,8 @@ static void print_dsd(const rp_cli_dsd_built *dsd, const rp_dsd_moments *m) {
     printf(": %zu bins", d->n_bins);
   printf(")\n");
   printf("  Nt %.4g m^-3   LWC %.4g g m^-3   R %.4g mm/h   Dm %.3f mm   D0 %.3f mm   "
-         "sigma_m %.3f mm\n  Nw %.4g m^-3 mm^-1   Z (Rayleigh, 6th moment) %.2f dBZ\n",
+         "sigma_m %.3f mm\n  Nw (Dm-based, 4^4 W / (pi rho_w Dm^4)) %.4g m^-3 mm^-1   "
+         "Z (Rayleigh, 6th moment) %.2f dBZ\n",
          m->nt_m3, m->lwc_g_m3, m->rain_rate_mm_h, m->dm_mm, m->d0_mm, m->sigma_m_mm, m->nw_m3_mm,
          m->z_rayleigh_dbz);
 }
