@@ -7,6 +7,7 @@
 #include "rp_test.h"
 
 #include <string.h>
+#include <sys/resource.h>
 #include <unistd.h>
 
 #include <netcdf.h>
@@ -204,6 +205,53 @@ static void test_written_file_reads_back(void **state) {
   model_close(&f);
 }
 
+static double peak_rss_mb(void) {
+  struct rusage u;
+  getrusage(RUSAGE_SELF, &u);
+  return (double)u.ru_maxrss / 1024.0; /* Linux: kilobytes */
+}
+
+/* Writing a volume must not hold a second copy of its fields: the netCDF library's
+ * default per-variable chunk cache kept every chunk dirty until nc_close, so the
+ * process's peak memory grew by about the fields' size during the write (the issue's
+ * 2 GB budget would have been broken at about half the documented gate limit). The
+ * peak resident size (getrusage, a high-water mark) may grow by the write buffers (one
+ * chunk) and the netCDF/HDF5 working memory, not by a copy of the fields. Measured on
+ * this 1.15 M-gate volume (132 MB of fields): +134 MB before the fix, +67 MB after (part
+ * of it a fixed cost of the library; on the 3.6 M-gate volume +433 MB before, +104 MB
+ * after). Three quarters of the fields separates the two with room for the allocator. */
+static void test_writing_does_not_hold_a_second_copy_of_the_fields(void **state) {
+  (void)state;
+  rp_scenario s;
+  small_scene(&s);
+  s.radar.gates = 4000;
+  s.radar.gate_spacing_m = 100;
+  s.radar.n_elevations = 4;
+  for (size_t k = 0; k < 4; k++) s.radar.elevations_deg[k] = 0.5 + (double)k;
+  s.noise = false; /* the write is measured, not the noise */
+  model_fixture f;
+  rp_error e = {0};
+  assert_int_equal(model_open(&s, &f, &e), RP_OK);
+  rp_volume_options o;
+  rp_volume_options_from_scenario(&s, &o);
+  rp_volume *v = NULL;
+  assert_int_equal(rp_volume_synthesize(&s, rp_volume_model_physics(f.vm), &o, &v, &e), RP_OK);
+  size_t n_fields = 0;
+  for (int k = 0; k < RP_VF_COUNT; k++) n_fields += v->field[k] != NULL;
+  const double fields_mb = (double)(v->n_rays * v->n_gates * n_fields * sizeof(float)) / 1048576.0;
+  char path[256];
+  snprintf(path, sizeof path, "/tmp/rp_test_volume_mem_%d.nc", (int)getpid());
+  const double before = peak_rss_mb();
+  assert_int_equal(rp_volume_file_write(v, path, NULL, &e), RP_OK);
+  const double grown = peak_rss_mb() - before;
+  if (!(grown < 0.75 * fields_mb))
+    print_error("write grew the peak memory by %.0f MB for %.0f MB of fields\n", grown, fields_mb);
+  assert_true(grown < 0.75 * fields_mb);
+  remove(path);
+  rp_volume_free(v);
+  model_close(&f);
+}
+
 /* text attribute or 1-D char variable as a NUL-terminated string ("" when absent) */
 static void nc_text(int nc, int var, const char *att, char *out, size_t n) {
   out[0] = '\0';
@@ -358,6 +406,7 @@ int main(int argc, char **argv) {
       cmocka_unit_test(test_model_binding_matches_direct_gate),
       cmocka_unit_test(test_written_file_reads_back),
       cmocka_unit_test(test_file_metadata_follows_cf_radial),
+      cmocka_unit_test(test_writing_does_not_hold_a_second_copy_of_the_fields),
       cmocka_unit_test(test_reader_takes_a_plain_retrieval_file),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
