@@ -120,6 +120,9 @@ static void test_bad_files_name_file_line_and_key(void **state) {
       {"elev.yaml", "radar:\n  band: C\n  elevations_deg: [0.5, 95]\n", "radar.elevations_deg[1]", ":3:"},
       {"nan.yaml", "radar:\n  band: C\nrain:\n  cells:\n    - kind: gaussian\n      x_km: 1\n      y_km: 1\n      radius_km: 2\n      nw: 1000\n      d0_mm: .nan\n      mu: 1\n", "d0_mm", ":10:"},
       {"memory.yaml", "radar:\n  band: C\n  gates: 4000\n  gate_spacing_m: 100\n  azimuth_step_deg: 0.1\n  elevations_deg: [0.5, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14]\n", "2 GB", ":3:"},
+      /* 360 x 3600 x 10 = 12.96 M gates: over the 12 M that keep the scene under 2 GB
+       * (16 M were allowed, which needed about 2.5 GB) */
+      {"memory2.yaml", "radar:\n  band: C\n  gates: 3600\n  gate_spacing_m: 100\n  elevations_deg: [0.5, 1, 2, 3, 4, 5, 6, 7, 8, 9]\n", "2 GB", ":3:"},
       {"elevtext.yaml", "radar:\n  band: C\n  elevations_deg: [0.5, 1.5deg]\n", "radar.elevations_deg[1]", ":3:"},
       {"elevhex.yaml", "radar:\n  band: C\n  elevations_deg:\n    - 0.5\n    - 0x10\n", "'0x10'", ":5:"},
       {"band.yaml", "radar:\n  band: W\n", "radar.band", ":2:"},

@@ -29,9 +29,11 @@
 #define RP_SCENARIO_NAME_LEN 64
 /* Weight below which a cell without a background gives no rain. */
 #define RP_SCENARIO_W_MIN 0.01
-/* Largest number of gates of a volume (rays x gates x sweeps): about 30 floats a gate
- * are kept (observed, truth, geometry), so 16 M gates stay under 2 GB. */
-#define RP_SCENARIO_MAX_TOTAL_GATES 16000000.0
+/* Largest number of gates of a volume (rays x gates x sweeps): 31 floats a gate are
+ * kept (observed, truth, geometry) and the netCDF write adds about 30 bytes a gate, so
+ * the `scene` command needs about 150 bytes a gate plus ~100 MB (model, tables):
+ * 12 M gates stay under 2 GB (measured 1.9 GB at 12 M gates with LDR). */
+#define RP_SCENARIO_MAX_TOTAL_GATES 12000000.0
 
 typedef enum { RP_CELL_GAUSSIAN, RP_CELL_LINE } rp_cell_kind;
 
