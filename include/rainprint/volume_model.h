@@ -9,7 +9,9 @@
  *   rp_volume_model_alloc(model, &scenario, &vm, err);
  *   rp_volume_synthesize(&scenario, rp_volume_model_physics(vm), &opts, &vol, err);
  * Temperatures: rain exists only between 0 C and the surface temperature, so the views
- * cover [0, surface_temperature_c] (at least one node). */
+ * cover [0, surface_temperature_c + lapse_rate_c_per_km / 2] (the margin for beam
+ * samples below the radar's altitude; at most RP_RADAR_TEMP_MAX_C); temperatures
+ * outside are clamped to the view. */
 #ifndef RAINPRINT_VOLUME_MODEL_H
 #define RAINPRINT_VOLUME_MODEL_H
 
