@@ -244,9 +244,16 @@ static void test_writing_does_not_hold_a_second_copy_of_the_fields(void **state)
   const double before = peak_rss_mb();
   assert_int_equal(rp_volume_file_write(v, path, NULL, &e), RP_OK);
   const double grown = peak_rss_mb() - before;
+#if defined(__SANITIZE_ADDRESS__)
+  /* AddressSanitizer quarantines freed memory, so the resident size says nothing about
+   * the writer here: the write runs (and is checked for leaks), the bound does not */
+  (void)grown;
+  (void)fields_mb;
+#else
   if (!(grown < 0.75 * fields_mb))
     print_error("write grew the peak memory by %.0f MB for %.0f MB of fields\n", grown, fields_mb);
   assert_true(grown < 0.75 * fields_mb);
+#endif
   remove(path);
   rp_volume_free(v);
   model_close(&f);
