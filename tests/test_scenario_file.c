@@ -127,9 +127,10 @@ static void test_bad_files_name_file_line_and_key(void **state) {
       {"elevhex.yaml", "radar:\n  band: C\n  elevations_deg:\n    - 0.5\n    - 0x10\n", "'0x10'", ":5:"},
       {"band.yaml", "radar:\n  band: W\n", "radar.band", ":2:"},
       /* integer keys take whole numbers only (2.5 gave 2 gates, 1e3 one gate, -3 a
-       * wrapped seed, all silently) */
+       * wrapped seed, 0100 an octal 64, all silently) */
       {"gatesfrac.yaml", "radar:\n  band: C\n  gates: 2.5\n", "radar.gates", ":3:"},
       {"gatesexp.yaml", "radar:\n  band: C\n  gates: 1e3\n", "'1e3'", ":3:"},
+      {"gatesoct.yaml", "radar:\n  band: C\n  gates: 0100\n", "'0100'", ":3:"},
       {"seedneg.yaml", "seed: -3\nradar:\n  band: C\n", "seed: '-3'", ":1:"},
       {"pulsesfrac.yaml", "radar:\n  band: C\n  pulses: 64.0\n", "radar.pulses", ":3:"},
       {"kdpwin.yaml", "radar:\n  band: C\nkdp_window_gates: 9.5\n", "kdp_window_gates", ":3:"},

@@ -300,8 +300,8 @@ static rp_status check_list_numbers(const key_lines *kl, const char *path, rp_er
 
 /* The integer keys must be written as whole numbers of plain digits: libcyaml reads an
  * unsigned field with strtoull-like parsing and the shared pre-scan accepts any plain
- * decimal, so "gates: 2.5" gave 2 gates, "gates: 1e3" gave 1 and "seed: -3" wrapped to
- * 2^64 - 3, all silently. */
+ * decimal, so "gates: 2.5" gave 2 gates, "gates: 1e3" gave 1, "gates: 0100" gave 64
+ * (octal) and "seed: -3" wrapped to 2^64 - 3, all silently. */
 static rp_status check_whole_numbers(const key_lines *kl, const char *path, rp_error *err) {
   static const char *const int_keys[] = {"radar.gates", "radar.pulses", "seed", "beam_samples",
                                          "kdp_window_gates"};
@@ -315,10 +315,13 @@ static rp_status check_whole_numbers(const key_lines *kl, const char *path, rp_e
     int ok = t[0] != '\0';
     for (const char *c = t; *c != '\0'; c++)
       if (*c < '0' || *c > '9') ok = 0;
+    /* a leading zero would be read as octal (0100 -> 64) */
+    if (t[0] == '0' && t[1] != '\0') ok = 0;
     if (!ok)
       return rp_error_set(err, RP_EPARSE,
-                          "%s:%u:%u: %s: '%s' is not a whole number (digits 0-9 only)", path,
-                          kl->v[i].line, kl->v[i].column, kl->v[i].path, t);
+                          "%s:%u:%u: %s: '%s' is not a whole number (digits 0-9 only, no "
+                          "leading zero)",
+                          path, kl->v[i].line, kl->v[i].column, kl->v[i].path, t);
   }
   return RP_OK;
 }
