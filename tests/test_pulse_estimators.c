@@ -74,7 +74,7 @@ static void test_velocity_folds_at_nyquist(void **state) {
 
 /* The grid where the first-order theory holds (Doviak & Zrnić 1993, sec. 6.4.1: the
  * perturbation expansion needs small errors of the lag products). Measured limits of it
- * (docs/notes/signal.md): M = 16 with SNR <= 10 dB or width <= 1 m/s, widths above
+ * (docs/method.md §14): M = 16 with SNR <= 10 dB or width <= 1 m/s, widths above
  * ~0.5 v_a (sigma_v/(2 v_a) > 0.25, the estimate spreads over the whole interval), and
  * SNR 3 dB with M = 64 and width <= 1 m/s are outside (theory low by 15-300 %). */
 typedef struct {

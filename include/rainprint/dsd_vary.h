@@ -6,7 +6,10 @@
  *                nw keeps the base's form
  *   mu           a gamma (N0 and Lambda held) or a normalised gamma (Nw and D0/Dm held)
  *   rain-rate    Marshall–Palmer
- * The result keeps the base's truncation. */
+ * The result keeps the base's truncation. The held parameters keep their numbers: varying
+ * d0 of a Dm-form base builds the D0 form with the base's Nw value (and dm of a D0-form
+ * base the Dm form), which is then the parameter of the new form — the two forms' Nw differ
+ * by a mu-dependent factor (1.163 at mu 3), so the DSD's moment-based Nw changes too. */
 #ifndef RAINPRINT_DSD_VARY_H
 #define RAINPRINT_DSD_VARY_H
 

@@ -6,7 +6,7 @@
  * and differential phase Phi_DP, plus independent white receiver noise in each channel.
  * Method (Zrnić 1975, J. Appl. Meteor. 14, 619-620): random spectral coefficients with
  * exponentially distributed power and uniform phase (complex Gaussian), inverse FFT
- * (FFTW). Details and the choices made are in src/signal/iq.c and docs/notes/signal.md.
+ * (FFTW). Details and the choices made are in src/signal/iq.c and docs/method.md §14.
  *
  * Conventions (the project's exp(-i omega t), see docs/method.md):
  *   - radial velocity positive AWAY from the radar; a receding scatterer advances the

@@ -106,7 +106,7 @@ void rp_pulse_truth(const rp_iq_params *p, const rp_iq_spectrum *spec,
  * sec. 6.4.1), of which their eq. 6.21 for the velocity is the special case; Bringi &
  * Chandrasekar (2001, sec. 6.5) for Z_DR, rho_hv, Phi_DP. Valid when the estimates'
  * relative errors are small (many pulses, SNR not too low, width neither tiny nor near
- * v_a; docs/notes/signal.md). NaN where there is no such formula (spectral moments) or
+ * v_a; docs/method.md §14). NaN where there is no such formula (spectral moments) or
  * the gradient does not exist (a true width of 0; rho_hv = 0 for Phi_DP).
  * Statuses: those of rp_iq_params_check; RP_ENOMEM. */
 rp_status rp_pulse_theory_sd(const rp_iq_params *p, const rp_iq_spectrum *spec,

@@ -7,7 +7,7 @@
  * Nw-free Doppler and rain moments (fallmoments.h). volume_model.h binds the radar
  * model (radar_model.h) to it; tests may pass hand-made evaluators.
  *
- * Method (docs/notes/volume.md, every equation with its reference):
+ * Method (docs/method.md §13, every equation with its reference):
  *   geometry   4/3-earth model (beam.h); temperature from the lapse rate; rain only
  *              below the freezing level (gates above are flagged, never rain);
  *   beam       beam_samples = n > 1: the linear integrals averaged over n x n
@@ -36,7 +36,7 @@
  *              DBZ, ZDR, RHOHV (noise-corrected), PHIDP, VEL (pulse pair), WIDTH
  *              (R0/R1) are the estimates of pulse_estimators.h; LDRH keeps the formula
  *              noise; KDP as above; the truth fields are unchanged
- *              (docs/notes/volume_pulses.md).
+ *              (docs/method.md §15).
  * Memory: fields are float, rays x gates each (about 130 bytes per gate in all). */
 #ifndef RAINPRINT_VOLUME_H
 #define RAINPRINT_VOLUME_H
@@ -157,7 +157,7 @@ double rp_volume_get(const rp_volume *v, rp_volume_field f, size_t ray, size_t g
  * prt_s, wavelength wavelength_m, for a Gaussian spectrum of width width_ms, SNR snr
  * (linear, > 0), copolar correlation rhohv (0..1], LDR ldr (linear):
  *   dbz (dB), zdr_db, phidp_deg, rhohv, vel_ms, width_ms, ldr_db.
- * Formulas and references in docs/notes/volume.md ("noise"). Pure function. */
+ * Formulas and references in docs/method.md §13 ("noise"). Pure function. */
 typedef struct {
   double dbz, zdr_db, phidp_deg, rhohv, vel_ms, width_ms, ldr_db;
   double independent_samples;

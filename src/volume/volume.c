@@ -1,5 +1,5 @@
 /* volume.c — synthesis of a radar volume with its truth (method in volume.h and
- * docs/notes/volume.md).
+ * docs/method.md §13).
  *
  * Work plan: sweep by sweep, the gate geometry (height, ground range, temperature) is
  * computed once per sweep for each elevation offset of the beam samples; then the rays
@@ -17,7 +17,7 @@
  * (RP_RNG_PULSES, sweep, ray, gate) and, for LDRH only, the formula noise from its
  * (RP_RNG_VOLUME_NOISE, ...) stream as in formula mode, so the volume is again the same
  * for any thread count. The choices (clipping, censoring, PhiDP branch) are in
- * docs/notes/volume_pulses.md. */
+ * docs/method.md §15. */
 #include "rainprint/volume.h"
 
 #include <math.h>
