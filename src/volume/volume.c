@@ -263,6 +263,16 @@ static void gate_iq_params(const ray_job *j, double zh_dbz, double zdr_db, doubl
 
 /* Pulses of one gate from its stream; estimates into est (may be NULL: samples only,
  * for the kept sweep); the samples are kept when this sweep's I/Q are. */
+/* A single-precision copy of z for the kept I/Q (a complex value is an array of its two
+ * parts, C11 6.2.5: no CMPLXF, which clang 14 with glibc lacks). */
+static float complex to_float_complex(double complex z) {
+  float complex f;
+  float *parts = (float *)&f;
+  parts[0] = (float)creal(z);
+  parts[1] = (float)cimag(z);
+  return f;
+}
+
 static rp_status pulse_gate(const ray_job *j, pulse_ctx *pc, size_t ray_in_sweep, size_t gi,
                             const rp_iq_params *ip, rp_pulse_estimates *est, rp_error *err) {
   rp_rng rng;
@@ -282,8 +292,8 @@ static rp_status pulse_gate(const ray_job *j, pulse_ctx *pc, size_t ray_in_sweep
   if (j->iq_h != NULL) {
     const size_t off = (ray_in_sweep * j->v->n_gates + gi) * j->m;
     for (size_t k = 0; k < j->m; k++) {
-      j->iq_h[off + k] = CMPLXF((float)creal(pc->h[k]), (float)cimag(pc->h[k]));
-      j->iq_v[off + k] = CMPLXF((float)creal(pc->v[k]), (float)cimag(pc->v[k]));
+      j->iq_h[off + k] = to_float_complex(pc->h[k]);
+      j->iq_v[off + k] = to_float_complex(pc->v[k]);
     }
   }
   return RP_OK;
