@@ -172,6 +172,10 @@ static void test_files_with_absurd_values_refused(void **state) {
       "  nw_m3_mm: 1e300\n  d0_mm: 1.6\n  mu: 3\nsource: \"invented for the test\"\n";
   assert_int_equal(load_preset(p2, strlen(p2), &e), RP_EPARSE);
   assert_non_null(strstr(e.msg, "Nw"));
+  /* bins that all lie above 10 mm cannot make a DSD: refused at load (fuzz_spectrum) */
+  const char high[] = "bin_center_mm,11,20,37\nbin_width_mm,1,1,1\n,00,5,1\n";
+  assert_int_equal(load_csv(high, strlen(high), &e), RP_EPARSE);
+  assert_non_null(strstr(e.msg, "mem.csv:2: column 2 (bin 1): every bin lies above 10 mm"));
   const char csv[] = "bin_center_mm,0.5,1.5\nbin_width_mm,1,1\nt1,10,1e307\n";
   assert_int_equal(load_csv(csv, strlen(csv), &e), RP_EPARSE);
   assert_non_null(strstr(e.msg, "mem.csv:3"));

@@ -157,6 +157,12 @@ done:
  * edges >= 0. Reported at the width line (where the geometry is complete). */
 static rp_status check_geometry(const where *w, size_t center_line, const double *c,
                                 const double *wd, size_t n) {
+  /* rp_dsd_spectrum refuses such rows; refuse the file here, with its line (found by
+   * fuzz_spectrum) */
+  if (c[0] - 0.5 * wd[0] >= RP_DSD_D_LIMIT_MM)
+    return rp_error_set(w->err, RP_EPARSE, "%s:%zu: column 2 (bin 1): every bin lies above "
+                        "%g mm (first bin centre %g mm, width %g mm)", w->path, w->line,
+                        RP_DSD_D_LIMIT_MM, c[0], wd[0]);
   for (size_t j = 0; j < n; j++) {
     if (c[j] - 0.5 * wd[j] < -RP_DSD_BIN_SLACK_MM)
       return rp_error_set(w->err, RP_EPARSE, "%s:%zu: column %zu (bin %zu): centre %g mm "
