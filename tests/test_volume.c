@@ -3,6 +3,8 @@
  * determinism and bad scenarios; score statistics. */
 #include "rp_test.h"
 
+#include "rainprint/field.h"
+
 #include <complex.h>
 #include <string.h>
 
@@ -689,9 +691,30 @@ static void test_scene_fields_follow_their_definitions(void **state) {
   assert_close(rp_scenario_nyquist_ms(&s), 299792458.0 / 5.6e9 * 1000 / 4, 1e-12, 0);
 }
 
+/* One table of fields: every volume field that measures or is a quantity of field.h
+ * carries that descriptor's units, so that the text, JSON, CSV and netCDF outputs agree. */
+static void test_volume_fields_share_units_with_the_field_table(void **state) {
+  (void)state;
+  int linked = 0;
+  for (int f = 0; f < RP_VF_COUNT; f++) {
+    const rp_volume_field_info *v = rp_volume_field_get((rp_volume_field)f);
+    assert_non_null(v);
+    if (v->quantity < 0) continue;
+    const rp_field_desc *d = rp_field_get((rp_field_id)v->quantity);
+    assert_non_null(d);
+    if (strcmp(v->units, d->units) != 0) fail_msg("%s: units '%s', field table '%s'", v->name, v->units, d->units);
+    linked++;
+  }
+  assert_true(linked >= 15);
+  /* the observed fields the convention names keep their CF/Radial short names */
+  assert_string_equal(rp_field_get(RP_FIELD_ZH)->cf_radial_name, "DBZ");
+  assert_int_equal(rp_volume_field_get(RP_VF_DBZ)->quantity, RP_FIELD_ZH);
+}
+
 int main(void) {
   rp_test_init();
   const struct CMUnitTest tests[] = {
+      cmocka_unit_test(test_volume_fields_share_units_with_the_field_table),
       cmocka_unit_test(test_noise_free_fields_obey_the_path_integrals),
       cmocka_unit_test(test_noise_spread_matches_the_estimator_formulas),
       cmocka_unit_test(test_noise_formulas_match_a_pulse_pair_simulation),

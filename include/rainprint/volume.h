@@ -72,6 +72,9 @@ typedef struct {
   const char *long_name;
   int observed;              /* 1: what the radar gives (fill below sensitivity) */
   int folds;                 /* 1: folded at the Nyquist velocity */
+  int quantity;              /* the quantity of the one table of fields (field.h,
+                                rp_field_id) it measures or is, -1 for none; its units
+                                are that descriptor's (tested) */
 } rp_volume_field_info;
 
 /* Descriptor of field f (NULL past the end). Static storage. */

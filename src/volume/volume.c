@@ -20,6 +20,8 @@
  * docs/method.md §15. */
 #include "rainprint/volume.h"
 
+#include "rainprint/field.h"
+
 #include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
@@ -36,37 +38,37 @@
 static const double DEG = M_PI / 180.0;
 
 static const rp_volume_field_info FIELDS[RP_VF_COUNT] = {
-    {"DBZ", "dBZ", "equivalent_reflectivity_factor", "reflectivity (attenuated, with noise)", 1, 0},
-    {"ZDR", "dB", "log_differential_reflectivity_hv", "differential reflectivity (attenuated, with bias and noise)", 1, 0},
-    {"PHIDP", "degrees", "differential_phase_hv", "differential phase (system offset + propagation + backscatter)", 1, 0},
-    {"KDP", "degrees/km", "specific_differential_phase_hv", "specific differential phase (least-squares slope of PHIDP)", 1, 0},
-    {"RHOHV", "1", "cross_correlation_ratio_hv", "copolar correlation coefficient", 1, 0},
-    {"VEL", "m/s", "radial_velocity_of_scatterers_away_from_instrument", "radial velocity (folded)", 1, 1},
-    {"WIDTH", "m/s", "doppler_spectrum_width", "Doppler spectrum width", 1, 0},
-    {"SNR", "dB", "signal_to_noise_ratio", "signal-to-noise ratio", 1, 0},
-    {"LDRH", "dB", "log_linear_depolarization_ratio_h", "linear depolarisation ratio", 1, 0},
-    {"truth_zh_dbz", "dBZ", NULL, "true horizontal reflectivity (unattenuated)", 0, 0},
-    {"truth_zdr_db", "dB", NULL, "true differential reflectivity (unattenuated)", 0, 0},
-    {"truth_kdp_deg_km", "degrees/km", NULL, "true specific differential phase", 0, 0},
-    {"truth_ah_db_km", "dB/km", NULL, "true specific attenuation at H (one way)", 0, 0},
-    {"truth_adp_db_km", "dB/km", NULL, "true specific differential attenuation (one way)", 0, 0},
-    {"truth_delta_hv_deg", "degrees", NULL, "true backscatter differential phase", 0, 0},
-    {"truth_rhohv", "1", NULL, "true copolar correlation coefficient", 0, 0},
-    {"truth_ldr_db", "dB", NULL, "true linear depolarisation ratio (unattenuated)", 0, 0},
-    {"truth_pia_db", "dB", NULL, "two-way path-integrated attenuation of Zh to the gate centre", 0, 0},
-    {"truth_pia_zdr_db", "dB", NULL, "two-way path-integrated differential attenuation to the gate centre", 0, 0},
-    {"truth_phidp_deg", "degrees", NULL, "true propagation differential phase 2*integral(KDP) to the gate centre", 0, 0},
-    {"truth_velocity_ms", "m/s", NULL, "true radial velocity (unfolded, positive away)", 0, 0},
-    {"truth_width_ms", "m/s", NULL, "true spectrum width", 0, 0},
-    {"truth_rain_rate_mm_h", "mm/h", NULL, "true rain rate at the gate centre", 0, 0},
-    {"truth_lwc_g_m3", "g/m3", NULL, "true liquid water content at the gate centre", 0, 0},
-    {"truth_d0_mm", "mm", NULL, "true median volume diameter at the gate centre", 0, 0},
-    {"truth_dm_mm", "mm", NULL, "true mass-weighted mean diameter at the gate centre", 0, 0},
-    {"truth_nw_m3_mm", "m-3 mm-1", NULL, "true normalised intercept Nw at the gate centre", 0, 0},
-    {"truth_mu", "1", NULL, "true shape parameter mu at the gate centre", 0, 0},
-    {"truth_temperature_c", "degC", NULL, "air temperature at the gate centre", 0, 0},
-    {"gate_height_m", "meters", NULL, "height of the gate centre above mean sea level (4/3-earth model)", 0, 0},
-    {"truth_gate_flag", "1", NULL, "gate flag: 0 rain, 1 above the freezing level, 2 no rain", 0, 0},
+    {"DBZ", "dBZ", "equivalent_reflectivity_factor", "reflectivity (attenuated, with noise)", 1, 0, RP_FIELD_ZH},
+    {"ZDR", "dB", "log_differential_reflectivity_hv", "differential reflectivity (attenuated, with bias and noise)", 1, 0, RP_FIELD_ZDR},
+    {"PHIDP", "degrees", "differential_phase_hv", "differential phase (system offset + propagation + backscatter)", 1, 0, -1},
+    {"KDP", "degrees/km", "specific_differential_phase_hv", "specific differential phase (least-squares slope of PHIDP)", 1, 0, RP_FIELD_KDP},
+    {"RHOHV", "1", "cross_correlation_ratio_hv", "copolar correlation coefficient", 1, 0, RP_FIELD_RHOHV},
+    {"VEL", "m/s", "radial_velocity_of_scatterers_away_from_instrument", "radial velocity (folded)", 1, 1, -1},
+    {"WIDTH", "m/s", "doppler_spectrum_width", "Doppler spectrum width", 1, 0, -1},
+    {"SNR", "dB", "signal_to_noise_ratio", "signal-to-noise ratio", 1, 0, -1},
+    {"LDRH", "dB", "log_linear_depolarization_ratio_h", "linear depolarisation ratio", 1, 0, RP_FIELD_LDR},
+    {"truth_zh_dbz", "dBZ", NULL, "true horizontal reflectivity (unattenuated)", 0, 0, RP_FIELD_ZH},
+    {"truth_zdr_db", "dB", NULL, "true differential reflectivity (unattenuated)", 0, 0, RP_FIELD_ZDR},
+    {"truth_kdp_deg_km", "degrees/km", NULL, "true specific differential phase", 0, 0, RP_FIELD_KDP},
+    {"truth_ah_db_km", "dB/km", NULL, "true specific attenuation at H (one way)", 0, 0, RP_FIELD_AH},
+    {"truth_adp_db_km", "dB/km", NULL, "true specific differential attenuation (one way)", 0, 0, RP_FIELD_ADP},
+    {"truth_delta_hv_deg", "degrees", NULL, "true backscatter differential phase", 0, 0, RP_FIELD_DELTA_HV},
+    {"truth_rhohv", "1", NULL, "true copolar correlation coefficient", 0, 0, RP_FIELD_RHOHV},
+    {"truth_ldr_db", "dB", NULL, "true linear depolarisation ratio (unattenuated)", 0, 0, RP_FIELD_LDR},
+    {"truth_pia_db", "dB", NULL, "two-way path-integrated attenuation of Zh to the gate centre", 0, 0, -1},
+    {"truth_pia_zdr_db", "dB", NULL, "two-way path-integrated differential attenuation to the gate centre", 0, 0, -1},
+    {"truth_phidp_deg", "degrees", NULL, "true propagation differential phase 2*integral(KDP) to the gate centre", 0, 0, -1},
+    {"truth_velocity_ms", "m/s", NULL, "true radial velocity (unfolded, positive away)", 0, 0, -1},
+    {"truth_width_ms", "m/s", NULL, "true spectrum width", 0, 0, -1},
+    {"truth_rain_rate_mm_h", "mm h-1", NULL, "true rain rate at the gate centre", 0, 0, RP_FIELD_RAIN_RATE},
+    {"truth_lwc_g_m3", "g m-3", NULL, "true liquid water content at the gate centre", 0, 0, RP_FIELD_LWC},
+    {"truth_d0_mm", "mm", NULL, "true median volume diameter at the gate centre", 0, 0, RP_FIELD_D0},
+    {"truth_dm_mm", "mm", NULL, "true mass-weighted mean diameter at the gate centre", 0, 0, RP_FIELD_DM},
+    {"truth_nw_m3_mm", "m-3 mm-1", NULL, "true normalised intercept Nw at the gate centre", 0, 0, RP_FIELD_NW},
+    {"truth_mu", "1", NULL, "true shape parameter mu at the gate centre", 0, 0, -1},
+    {"truth_temperature_c", "degC", NULL, "air temperature at the gate centre", 0, 0, -1},
+    {"gate_height_m", "meters", NULL, "height of the gate centre above mean sea level (4/3-earth model)", 0, 0, -1},
+    {"truth_gate_flag", "1", NULL, "gate flag: 0 rain, 1 above the freezing level, 2 no rain", 0, 0, -1},
 };
 
 const rp_volume_field_info *rp_volume_field_get(rp_volume_field f) {
