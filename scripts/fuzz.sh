@@ -11,7 +11,7 @@ set -euo pipefail
 here=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 secs=${1:-60}
 build=${RP_FUZZ_BUILD:-"$here/build-fuzz"}
-read -r -a targets <<<"${RP_FUZZ_TARGETS:-preset climate spectrum table}"
+read -r -a targets <<<"${RP_FUZZ_TARGETS:-preset climate spectrum table scenario}"
 
 if [[ "${RP_FUZZ_NO_BUILD:-0}" != 1 ]]; then
   cmake -S "$here" -B "$build" -DCMAKE_C_COMPILER=clang -DRP_FUZZ=ON -DBUILD_TESTING=OFF \

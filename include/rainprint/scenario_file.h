@@ -32,4 +32,9 @@
 rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_scenario *out,
                                 char **text, rp_error *err);
 
+/* The same on n bytes of YAML in memory (named name in messages; the shared text rules
+ * apply as to a file): for the fuzz target and for callers that hold the text. */
+rp_status rp_scenario_load_data(const char *name, const char *data, size_t n,
+                                const char *presets_dir, rp_scenario *out, rp_error *err);
+
 #endif

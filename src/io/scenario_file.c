@@ -529,23 +529,15 @@ static rp_status fill(const scen_doc *d, const char *path, const char *presets_d
   return st == RP_OK ? RP_OK : RP_EPARSE;
 }
 
-rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_scenario *out,
-                                char **text, rp_error *err) {
-  if (text != NULL) *text = NULL;
-  if (path == NULL || out == NULL) return rp_error_set(err, RP_EINVAL, "scenario: NULL path or output");
-  /* the shared text rules (regular file, size, BOM, NUL bytes, line length), then the
-   * YAML scan and libcyaml on the same bytes */
-  char *data = NULL;
-  size_t n = 0;
-  RP_TRY(rp_text_read_file(path, &data, &n, err));
+/* The scenario in data[0..n-1] (already under the text rules, without a BOM), named path
+ * in messages. */
+static rp_status load_bytes(const char *path, const char *data, size_t n, const char *presets_dir,
+                            rp_scenario *out, rp_error *err) {
   cyaml_data_t *raw = NULL;
   rp_status st = rp_yaml_load_data(path, data, n, &doc_schema, numeric_keys,
                                    sizeof numeric_keys / sizeof numeric_keys[0],
                                    "a scenario needs at least a radar: section", &raw, err);
-  if (st != RP_OK) {
-    free(data);
-    return st;
-  }
+  if (st != RP_OK) return st;
   const scen_doc *d = raw;
   key_lines kl = {NULL, 0, 0};
   scan_lines(data, n, &kl);
@@ -554,7 +546,6 @@ rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_sc
   rp_scenario *s = st == RP_OK ? malloc(sizeof *s) : NULL;
   if (s == NULL) {
     rp_yaml_free(&doc_schema, raw);
-    free(data);
     free(kl.v);
     return st != RP_OK ? st : rp_error_set(err, RP_ENOMEM, "%s: out of memory", path);
   }
@@ -566,13 +557,43 @@ rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_sc
   free(kl.v);
   if (st != RP_OK) {
     free(s);
-    free(data);
     if (line > 0) return rp_error_set(err, st, "%s:%u: %s", path, line, e2.msg);
     return rp_error_set(err, st, "%s: %s", path, e2.msg);
   }
   *out = *s;
   free(s);
-  if (text != NULL) *text = data; /* without a BOM: the scenario attribute */
-  else free(data);
   return RP_OK;
+}
+
+rp_status rp_scenario_file_load(const char *path, const char *presets_dir, rp_scenario *out,
+                                char **text, rp_error *err) {
+  if (text != NULL) *text = NULL;
+  if (path == NULL || out == NULL) return rp_error_set(err, RP_EINVAL, "scenario: NULL path or output");
+  /* the shared text rules (regular file, size, BOM, NUL bytes, line length), then the
+   * YAML scan and libcyaml on the same bytes */
+  char *data = NULL;
+  size_t n = 0;
+  RP_TRY(rp_text_read_file(path, &data, &n, err));
+  const rp_status st = load_bytes(path, data, n, presets_dir, out, err);
+  if (st == RP_OK && text != NULL)
+    *text = data; /* without a BOM: the scenario attribute */
+  else
+    free(data);
+  return st;
+}
+
+rp_status rp_scenario_load_data(const char *name, const char *data, size_t n,
+                                const char *presets_dir, rp_scenario *out, rp_error *err) {
+  if (name == NULL || (data == NULL && n > 0) || out == NULL)
+    return rp_error_set(err, RP_EINVAL, "scenario: NULL name, data or output");
+  size_t body = 0;
+  RP_TRY(rp_text_check(name, data, n, &body, err));
+  /* the YAML loader wants a NUL-terminated copy */
+  char *copy = malloc(n - body + 1);
+  if (copy == NULL) return rp_error_set(err, RP_ENOMEM, "%s: out of memory", name);
+  memcpy(copy, data + body, n - body);
+  copy[n - body] = '\0';
+  const rp_status st = load_bytes(name, copy, n - body, presets_dir, out, err);
+  free(copy);
+  return st;
 }
