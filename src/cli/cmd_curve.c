@@ -435,6 +435,11 @@ static int read_opts(const rp_opts *o, curve_opts *c) {
   int rc;
   if ((rc = rp_opts_required(o, "vary"))) return rc;
   c->vary = (vary_kind)rp_opts_enum(o, "vary", 0);
+  /* the varied parameter takes the range's values: a fixed value of it is a contradiction */
+  if (VARY[c->vary].dsd_code == 0 && rp_opts_given(o, VARY[c->vary].name))
+    return rp_cli_fail(CMD, RP_EINVAL, "--vary %s takes its values from --from/--to: drop "
+                       "--%s %s", VARY[c->vary].name, VARY[c->vary].name,
+                       rp_opts_get(o, VARY[c->vary].name)->text);
   if (!rp_opts_given(o, "from") || !rp_opts_given(o, "to"))
     return rp_cli_fail(CMD, RP_EINVAL, "--vary %s needs --from and --to", VARY[c->vary].name);
   c->from = rp_opts_double(o, "from", 0.0);

@@ -192,6 +192,7 @@ int rp_cmd_score(int argc, char **argv) {
           json_array_append_new(arr, b);
         }
         json_object_set_new(j, "by", json_string(by_names[by_range ? 0 : 1]));
+        json_object_set_new(j, "bin_units", json_string(by_range ? "km" : d.truth_units));
         json_object_set_new(j, "bins", arr);
       }
       rc = rp_json_print(j);

@@ -191,6 +191,57 @@ bad_case "--vmax -20 is not above the lower end -1 of the colour scale of ZDR: g
 bad_case "give either --all or --vmin, not both" "$rp" picture "$work/tiny.nc" --all --vmin 0 --out "$out/p.png"
 bad_case "give either --all or --vmax, not both" "$rp" picture "$work/tiny.nc" --all --vmax 5 --out "$out/p.png"
 
+# scene: every scenario key error names the file, the line and the key, and leaves no file
+base="$work/base.yaml"
+cp "$work/tiny.yaml" "$base"
+scen() { # PATTERN YAML-TEXT
+  printf '%s\n' "$2" >"$work/bad.yaml"
+  bad_case "$1" "$rp" scene "$work/bad.yaml" --out "$out/v.nc"
+}
+scen "gatez" "radar: {name: A, band: X, gatez: 20, elevations_deg: [0.5]}"
+scen "radar" "rain: {background: {nw: 3000, d0_mm: 1.2, mu: 3}}"
+scen "gate_spacing_m" "radar: {name: A, band: X, gate_spacing_m: -500, gates: 20, elevations_deg: [0.5]}"
+scen "elevations_deg" "radar: {name: A, band: X, gates: 20, elevations_deg: [0.5, 95]}"
+scen "d0_mm" "radar: {name: A, band: X, gates: 20, elevations_deg: [0.5]}
+rain: {cells: [{kind: gaussian, x_km: 1, y_km: 1, radius_km: 2, nw: 8000, d0_mm: nan, mu: 2}]}"
+scen "gates" "radar: {name: A, band: X, gates: 90000000, elevations_deg: [0.5]}"
+scen "band" "radar: {name: A, band: W, gates: 20, elevations_deg: [0.5]}"
+scen "kind" "radar: {name: A, band: X, gates: 20, elevations_deg: [0.5]}
+rain: {cells: [{kind: blob, x_km: 1, y_km: 1, radius_km: 2, nw: 8000, d0_mm: 1.5, mu: 2}]}"
+scen "start_time" "radar: {name: A, band: X, gates: 20, elevations_deg: [0.5], start_time: \"2026-02-30T00:00:00Z\"}"
+scen "gates" "radar: {name: A, band: X, gates: 2.5, elevations_deg: [0.5]}"
+scen "lapse_rate_c_per_km" "radar: {name: A, band: X, gates: 20, elevations_deg: [0.5]}
+atmosphere: {surface_temperature_c: 20, lapse_rate_c_per_km: fast}"
+scen "document" "radar: {name: A, band: X, gates: 20, elevations_deg: [0.5]}
+---
+radar: {name: B}"
+bad_case "--out is required" "$rp" scene "$base"
+bad_case "give either --pulses or --no-noise, not both" "$rp" scene "$base" --out "$out/v.nc" --no-noise --pulses
+bad_case "--keep-iq" "$rp" scene "$base" --out "$out/v.nc" --pulses --keep-iq 5 --iq-out "$out/iq.nc"
+bad_case "cannot" "$rp" scene "$work/no-such.yaml" --out "$out/v.nc"
+# picture and score
+bad_case "did you mean 'DBZ'" "$rp" picture "$work/tiny.nc" --field DBX --out "$out/p.png"
+bad_case "--sweep 7" "$rp" picture "$work/tiny.nc" --sweep 7 --out "$out/p.png"
+bad_case ".png, .svg or .pdf" "$rp" picture "$work/tiny.nc" --out "$out/p.gif"
+bad_case "give either --rhi or --sweep, not both" "$rp" picture "$work/tiny.nc" --rhi 10 --sweep 1 --out "$out/p.png"
+bad_case "give one volume FILE.nc" "$rp" picture --out "$out/p.png"
+bad_case "--field is required" "$rp" score "$work/tiny.nc" "$work/tiny.nc" --against truth_zh_dbz
+bad_case "nothing" "$rp" score "$work/tiny.nc" "$work/tiny.nc" --field nothing --against truth_zh_dbz
+bad_case "--bins needs --by" "$rp" score "$work/tiny.nc" "$work/tiny.nc" --field DBZ --against truth_zh_dbz --bins 3
+bad_case "give TRUTH.nc and RETRIEVAL.nc" "$rp" score "$work/tiny.nc" --field DBZ --against truth_zh_dbz
+# pulses
+bad_case "--pulses" "$rp" pulses --pulses 1 --out "$out/iq.nc"
+bad_case "--width" "$rp" pulses --width -1
+bad_case "--rhohv" "$rp" pulses --rhohv 1.5
+bad_case "--snr" "$rp" pulses --snr nan
+bad_case "Nyquist" "$rp" pulses --width 20 --nyquist 8
+bad_case "give either --prt or --nyquist, not both" "$rp" pulses --prt 0.001 --nyquist 8
+bad_case "--zdr comes from the DSD" "$rp" pulses --preset maritime-downpour --zdr 1
+bad_case "--elevation goes with a DSD" "$rp" pulses --elevation 5
+bad_case "--realisations" "$rp" pulses --realisations 0
+# curve: a varied scattering parameter given a fixed value too
+bad_case "--vary temperature takes its values from --from/--to" "$rp" curve "${gs[@]}" --vary temperature --from 0 --to 20 --temperature 10
+
 echo "$cases bad inputs"
 [[ $cases -ge 60 ]] && ok || bad "fewer than 60 bad inputs ($cases)"
 finish
