@@ -72,6 +72,14 @@ typedef struct {
 rp_status rp_gate_result_from_linear(const rp_gate_linear *lin, rp_gate_result *out,
                                      rp_error *err);
 
+/* The linear integrals that reproduce radar variables r (the inverse of
+ * rp_gate_result_from_linear): Z_hv from LDR (0 when LDR is at the floor), <f_hh f_vv*>
+ * from rho_hv, delta_hv and sqrt(Z_h Z_v). */
+void rp_gate_linear_from_result(const rp_gate_result *r, rp_gate_linear *out);
+
+/* Sum a += w b of linear integrals (beam filling, mixtures, temperature interpolation). */
+void rp_gate_linear_axpy(double w, const rp_gate_linear *b, rp_gate_linear *a);
+
 /* A quadrature plan: Gauss–Legendre nodes and weights over [dmin_mm, dmax_mm] (the
  * plan's truncation), nodes_per_interval points in every quadrature interval, with the
  * table's quantities interpolated at the nodes once, the unit constants folded in, the

@@ -135,14 +135,6 @@ rp_status rp_radar_model_temps(rp_radar_model *m, int band, double elevation_deg
 rp_status rp_radar_temps_eval(const rp_radar_temps *view, double temp_c, double nw_m3_mm,
                               double d0_mm, double mu, rp_gate_linear *out, rp_error *err);
 
-/* The linear integrals that reproduce radar variables r (the inverse of
- * rp_gate_result_from_linear): Z_hv from LDR (0 when LDR is at the floor), <f_hh f_vv*>
- * from rho_hv, delta_hv and sqrt(Z_h Z_v). */
-void rp_gate_linear_from_result(const rp_gate_result *r, rp_gate_linear *out);
-
-/* Sum a += w b of linear integrals (beam filling, mixtures, temperature interpolation). */
-void rp_gate_linear_axpy(double w, const rp_gate_linear *b, rp_gate_linear *a);
-
 /* Warm the cache: the entries of every band at every node covering [tmin_c, tmax_c] and at
  * each of the n elevations (a volume calls this once, serially, before its parallel loop;
  * tables are built with OpenMP over diameters). Statuses as rp_radar_model_temps. */

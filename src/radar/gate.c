@@ -160,6 +160,30 @@ rp_status rp_gate_result_from_linear(const rp_gate_linear *lin, rp_gate_result *
   return RP_OK;
 }
 
+void rp_gate_linear_from_result(const rp_gate_result *r, rp_gate_linear *out) {
+  out->zh_mm6_m3 = r->zh_mm6_m3;
+  out->zv_mm6_m3 = r->zv_mm6_m3;
+  out->zhv_mm6_m3 = r->ldr_db > RP_LDR_FLOOR_DB ? r->zh_mm6_m3 * pow(10.0, 0.1 * r->ldr_db) : 0.0;
+  const double mag = r->rhohv * sqrt(r->zh_mm6_m3) * sqrt(r->zv_mm6_m3);
+  const double ph = r->delta_hv_deg * (M_PI / 180.0);
+  out->zhhvv_re_mm6_m3 = mag * cos(ph);
+  out->zhhvv_im_mm6_m3 = mag * sin(ph);
+  out->kdp_deg_km = r->kdp_deg_km;
+  out->ah_db_km = r->ah_db_km;
+  out->adp_db_km = r->adp_db_km;
+}
+
+void rp_gate_linear_axpy(double w, const rp_gate_linear *b, rp_gate_linear *a) {
+  a->zh_mm6_m3 += w * b->zh_mm6_m3;
+  a->zv_mm6_m3 += w * b->zv_mm6_m3;
+  a->zhv_mm6_m3 += w * b->zhv_mm6_m3;
+  a->zhhvv_re_mm6_m3 += w * b->zhhvv_re_mm6_m3;
+  a->zhhvv_im_mm6_m3 += w * b->zhhvv_im_mm6_m3;
+  a->kdp_deg_km += w * b->kdp_deg_km;
+  a->ah_db_km += w * b->ah_db_km;
+  a->adp_db_km += w * b->adp_db_km;
+}
+
 /* ---- plan --------------------------------------------------------------------------- */
 
 static rp_status check_table(const rp_table *t, rp_error *err) {

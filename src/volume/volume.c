@@ -310,19 +310,6 @@ static rp_status noise_only_gate(const ray_job *j, pulse_ctx *pc, size_t ray_in_
   return pulse_gate(j, pc, ray_in_sweep, gi, &ip, NULL, err);
 }
 
-/* a += w b (beam-filling sums; the same as rp_gate_linear_axpy of radar_model.h, kept
- * here so that the synthesis needs gate.h alone) */
-static void lin_axpy(double w, const rp_gate_linear *b, rp_gate_linear *a) {
-  a->zh_mm6_m3 += w * b->zh_mm6_m3;
-  a->zv_mm6_m3 += w * b->zv_mm6_m3;
-  a->zhv_mm6_m3 += w * b->zhv_mm6_m3;
-  a->zhhvv_re_mm6_m3 += w * b->zhhvv_re_mm6_m3;
-  a->zhhvv_im_mm6_m3 += w * b->zhhvv_im_mm6_m3;
-  a->kdp_deg_km += w * b->kdp_deg_km;
-  a->ah_db_km += w * b->ah_db_km;
-  a->adp_db_km += w * b->adp_db_km;
-}
-
 /* radial component of the wind at map point (x, y) along azimuth (sin_az, cos_az) */
 static double radial_wind(const rp_scenario *s, double x_km, double y_km, double sin_az,
                           double cos_az, double cos_el) {
@@ -394,7 +381,7 @@ static rp_status do_ray(const ray_job *j, pulse_ctx *pc, size_t ray_in_sweep, si
             rp_error_prefix(err, "gate %zu (%.0f m), beam sample %d,%d: ", gi, v->range_m[gi], ke, ka);
             return st;
           }
-          lin_axpy(g->w[ke] * g->w[ka], &lk, &lin);
+          rp_gate_linear_axpy(g->w[ke] * g->w[ka], &lk, &lin);
         }
       }
     }
