@@ -206,7 +206,7 @@ static int load_in_child(const unsigned char *img, size_t n, const char *orig_pa
  * change results silently: each is refused, or leaves every value bit-identical (bytes
  * HDF5 does not read). Before the checks 24 of 93 silently changed results. Each load
  * runs in its own process because a crafted or corrupted HDF5 file can still crash
- * inside the HDF5 library (the known limit in docs/notes/reliability.md: seen once in
+ * inside the HDF5 library (the known limit in docs/method.md §16: seen once in
  * the sanitizer build, never in the normal one); a crash is counted and reported, and
  * is not a silent change. */
 static void test_random_8_byte_corruptions_never_change_results(void **state) {

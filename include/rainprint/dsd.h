@@ -44,7 +44,7 @@
  * spectrum CSV reader and the gate integrator alike). */
 #define RP_DSD_BIN_SLACK_MM 1e-9
 /* Bounds on every input quantity (one place; the table with sources and reasons is in
- * docs/notes/reliability.md). They keep every integral in a physical range, far from
+ * docs/method.md §16). They keep every integral in a physical range, far from
  * overflow, so that a result is either finite or an error:
  *   Nw (normalised intercept)      [RP_DSD_NW_MIN, RP_DSD_NW_MAX] m^-3 mm^-1
  *   Marshall-Palmer rain rate      [RP_DSD_RAIN_RATE_MIN, RP_DSD_RAIN_RATE_MAX] mm h^-1

@@ -68,7 +68,7 @@ rp_status rp_table_load_mem(const char *name, const void *data, size_t size, rp_
  * value finite; |f|^2 columns and Im f(0) >= 0; |<f_hh f_vv*>|^2 <= <|f_hh|^2><|f_vv|^2>
  * (relative slack 1e-6); <|f_hv|^2> <= max(<|f_hh|^2>, <|f_vv|^2>); back-scatter and
  * forward amplitudes below the bounds above. Method and justification in
- * docs/notes/reliability.md. Returns RP_OK, RP_EINVAL (NULL t) or RP_ETABLE naming
+ * docs/method.md §16. Returns RP_OK, RP_EINVAL (NULL t) or RP_ETABLE naming
  * the variable, index, diameter, value and the bound. */
 rp_status rp_table_validate(const rp_table *t, const char *name, rp_error *err);
 

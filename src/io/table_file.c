@@ -26,7 +26,7 @@
  *   (nc_open_mem), so the checked file is the parsed file. Then: shape and types of
  *   every variable, rp_table_validate (the physics bounds, below: an implausible value
  *   is named with its bound), then the checksums (every other change).
- * - Bounds (rp_table_validate; justification in docs/notes/reliability.md):
+ * - Bounds (rp_table_validate; justification in docs/method.md §16):
  *   all values finite; |f|^2 columns and Im f(0) >= 0 (optical theorem: extinction
  *   >= 0); |<f_hh f_vv*>|^2 <= <|f_hh|^2><|f_vv|^2> (Cauchy–Schwarz for the canting
  *   average), relative slack 1e-6 for the angular-moments approximation;

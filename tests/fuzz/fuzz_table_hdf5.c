@@ -7,7 +7,7 @@
  * Oracle: a refusal is RP_ETABLE or RP_ENOMEM with a message; an accepted table passes
  * rp_table_validate again and its every value is finite.
  * Known limit: the input reaches the HDF5 library, which a crafted file can still crash
- * (a defect there, docs/notes/reliability.md); such findings are HDF5's. fuzz_table.c
+ * (a defect there, docs/method.md §16); such findings are HDF5's. fuzz_table.c
  * covers our own layers without handing fuzz bytes to HDF5. */
 #include <stddef.h>
 #include <stdint.h>
