@@ -67,11 +67,17 @@ rp_status rp_relate_samples_save_csv(const char *path, const rp_relate_sample *s
     put_num(f, p->rhohv);
     fprintf(f, ",%d,%s\n", rp_fit_is_held_out(p->index), p->fast ? "fast" : "direct");
   }
-  const int bad_write = ferror(f);
-  const int bad_close = fclose(f);
+  /* flush and sync before the close so that a full disk is seen here, with its reason */
+  errno = 0;
+  const int bad_write = ferror(f) || fflush(f) != 0 || fsync(fileno(f)) != 0;
+  const int write_errno = errno;
+  errno = 0;
+  const int bad_close = fclose(f) != 0;
+  const int e = bad_write ? write_errno : errno;
   if (bad_write || bad_close) {
     unlink(tmp);
-    return rp_error_set(err, RP_EIO, "%s: writing failed", path);
+    return rp_error_set(err, RP_EIO, "%s: writing failed: %s", path,
+                        e ? strerror(e) : "an I/O error");
   }
   return rp_tempfile_commit("relate CSV", tmp, path, err);
 }
