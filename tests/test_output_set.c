@@ -200,9 +200,22 @@ static void test_symlink_written_through_and_mode_kept(void **state) {
   assert_int_equal(rp_tempfile_resolve(l1, resolved, sizeof resolved, &err), RP_EINVAL);
 }
 
+/* A missing folder or a file in the folder's place is named in the message (not the
+ * temporary file the check would have made there). */
+static void test_output_check_names_a_missing_folder(void **state) {
+  (void)state;
+  rp_error e = {0};
+  assert_int_equal(rp_output_check("--out", "/nonexistent-rp-folder/x.png", &e), RP_EIO);
+  assert_non_null(strstr(e.msg, "the folder '/nonexistent-rp-folder' does not exist"));
+  assert_null(strstr(e.msg, ".rp-tmp-"));
+  assert_int_equal(rp_output_check("--out", "/etc/passwd/x.nc", &e), RP_EIO);
+  assert_non_null(strstr(e.msg, "is not a folder"));
+}
+
 int main(void) {
   rp_test_init();
   const struct CMUnitTest tests[] = {
+      cmocka_unit_test(test_output_check_names_a_missing_folder),
       cmocka_unit_test(test_failure_between_writes_keeps_the_old_pair),
       cmocka_unit_test(test_commit_failure_names_the_output),
       cmocka_unit_test(test_output_check_refuses_before_any_work),

@@ -35,6 +35,21 @@ struct rp_output_set {
 
 rp_status rp_output_check(const char *what, const char *path, rp_error *err) {
   if (what == NULL) what = "output";
+  /* the folder first, so that the message names it rather than a temporary file */
+  char target[PATH_LEN];
+  if (path != NULL && path[0] != '\0' &&
+      rp_tempfile_resolve(path, target, sizeof target, NULL) == RP_OK) {
+    char *slash = strrchr(target, '/');
+    if (slash != NULL) {
+      if (slash == target) slash[1] = '\0'; else *slash = '\0';
+      struct stat sb;
+      if (stat(target, &sb) != 0)
+        return rp_error_set(err, RP_EIO, "%s '%s': the folder '%s' does not exist or cannot be "
+                            "reached: %s", what, path, target, strerror(errno));
+      if (!S_ISDIR(sb.st_mode))
+        return rp_error_set(err, RP_EIO, "%s '%s': '%s' is not a folder", what, path, target);
+    }
+  }
   char tmp[PATH_LEN];
   int fd = -1;
   RP_TRY(rp_tempfile_create(what, path, tmp, sizeof tmp, &fd, err));
