@@ -35,8 +35,8 @@ static double poisson_window(int k, double x1, double x2) {
   return fact * (exp(-x1) * s1 - exp(-x2) * s2);
 }
 
-/* Atlas, Srivastava & Sekhon (1973) fall speed without the clip, m/s (/work/shared
- * physics notes §6 quote it; the clip acts only below 0.109 mm). */
+/* Atlas, Srivastava & Sekhon (1973, eq. 24) fall speed without the clip, m/s (the clip
+ * acts only below 0.109 mm). */
 static double atlas_v(double d_mm) { return 9.65 - 10.3 * exp(-0.6 * d_mm); }
 
 /* ---- closed forms ----------------------------------------------------------------- */

@@ -3,7 +3,7 @@
  * Why a pre-scan: libcyaml 1.3.1 accepts "nan", "inf", "-inf" and hex ("0x10") for FLOAT
  * fields and silently drops trailing text ("1.6mm" -> 1.6, "1_000" -> 1; fixed upstream
  * only in 1.4.0), and it reports YAML syntax errors without libyaml's own position
- * (shared/deps.md, libcyaml section). So each file is first walked with libyaml's event
+ * (seen on Debian 12's libcyaml 1.3.1; docs/method.md §7). So each file is first walked with libyaml's event
  * parser: a stack of open collections gives the field path ("clusters[1].d0_sd_mm")
  * and every scalar under a numeric key goes through rp_decimal_parse(). Positions are
  * libyaml's 0-based marks plus one. Nesting deeper than SCAN_MAX_DEPTH is still parsed
