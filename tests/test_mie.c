@@ -72,7 +72,7 @@ static void test_mie_rayleigh_limit_small_spheres(void **state) {
 
 static void test_mie_small_sphere_amplitude_convention(void **state) {
   (void)state;
-  /* scatter.h / physics-notes §1: f -> k^2 (D/2)^3 K, positive real for a lossless
+  /* scatter.h / docs/method.md §1: f -> k^2 (D/2)^3 K, positive real for a lossless
    * small sphere, equal forward and back. At x = 1e-3 the O(x^2) size correction is
    * ~3e-7 for m = 1.33 (tolerance 1e-5) and Im f / Re f = (2/3) x^3 K (radiation
    * reaction) ~ 1e-10 (tolerance 1e-8). */

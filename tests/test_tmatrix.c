@@ -217,7 +217,7 @@ static void test_tmatrix_sphere_equals_mie_at_general_angles(void **state) {
 static void test_tmatrix_sphere_backscatter_hh_equals_vv(void **state) {
   rp_tmatrix_ws *ws = *state;
   rp_error err = {0};
-  /* physics-notes §1 (backscatter alignment): a sphere has f_hh(pi) = f_vv(pi) and
+  /* docs/method.md §1 (backscatter alignment): a sphere has f_hh(pi) = f_vv(pi) and
    * f_hv = f_vh = 0 for any incidence. The T-matrix of a sphere is diagonal, so the
    * identity holds to round-off: 1e-12 relative. Incidence at broadside, 30 deg
    * elevation, 30 deg from the symmetry axis (elevation 60 deg) and along the axis;
@@ -243,7 +243,7 @@ static void test_tmatrix_sphere_backscatter_hh_equals_vv(void **state) {
 /* ---- non-spherical particles ------------------------------------------------------ */
 
 /* Depolarisation factor along the symmetry axis, Bohren & Huffman (1983) §5.3 (also
- * physics-notes §3): oblate (r < 1) e^2 = 1 - r^2, g = sqrt((1-e^2)/e^2),
+ * docs/method.md §5): oblate (r < 1) e^2 = 1 - r^2, g = sqrt((1-e^2)/e^2),
  * L_a = g/(2e^2) (pi/2 - atan g) - g^2/2, L_b = 1 - 2 L_a; prolate (r > 1)
  * e^2 = 1 - 1/r^2, L_b = (1-e^2)/e^2 (-1 + ln((1+e)/(1-e)) / (2e)). */
 static double depol_b(double r) {
@@ -259,7 +259,7 @@ static double depol_b(double r) {
 static void test_tmatrix_small_spheroids_match_rayleigh_gans(void **state) {
   rp_tmatrix_ws *ws = *state;
   rp_error err = {0};
-  /* Rayleigh-Gans (Bohren & Huffman 1983 §5.3; physics-notes §3):
+  /* Rayleigh-Gans (Bohren & Huffman 1983 §5.3; docs/method.md §5):
    * f_j = k^2 alpha_j / (4 pi), alpha_j = V (eps-1) / (1 + L_j (eps-1)), V = pi D^3/6,
    * h along a (L_a), v along b (L_b), forward and back (backscatter alignment).
    * D = 0.2 mm at S band: size corrections O((|m| k a)^2) ~ 1e-4 (observed), so the
@@ -407,7 +407,7 @@ static void test_tmatrix_blocks_have_reciprocity_symmetry(void **state) {
 static void test_tmatrix_oblate_drop_gives_positive_kdp_and_zdr(void **state) {
   rp_tmatrix_ws *ws = *state;
   rp_error err = {0};
-  /* physics-notes §7 and design.md conventions: for an oblate drop (horizontal =
+  /* docs/method.md §1 conventions: for an oblate drop (horizontal =
    * along the long axis a) Re f_hh(0) > Re f_vv(0) (KDP > 0) and |f_hh(pi)| >
    * |f_vv(pi)| (ZDR > 0). 3 mm drop, r = 0.8, S band. The relative differences are
    * ~10 % (Rayleigh-Gans), so a strict inequality with a 1 % margin is safe. */
@@ -531,7 +531,7 @@ static void test_tmatrix_hard_cases_fail_cleanly(void **state) {
   rp_tmatrix_ws *ws = *state;
   rp_error err = {0};
   /* Ka band (35 GHz) with an 8 mm drop and an extreme X-band shape (D = 10 mm,
-   * r = 0.3) push EBCM towards its loss-of-precision limit (physics-notes §4). Either
+   * r = 0.3) push EBCM towards its loss-of-precision limit (docs/method.md §6). Either
    * outcome is acceptable — a converged, reciprocal answer or RP_ENOCONV with a
    * message — but never a crash, a NaN or another status. */
   const struct {

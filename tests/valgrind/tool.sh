@@ -2,7 +2,7 @@
 # The tool under valgrind (memcheck, full leak check): every run must be free of memory
 # errors and of definite or indirect leaks. "Possibly lost" blocks are not counted: the
 # ones seen come from system libraries' caches (libgomp thread TLS, fontconfig/pango,
-# which differ with the state of the font cache), see valgrind.supp and deps.md.
+# which differ with the state of the font cache), see valgrind.supp.
 # Usage: tool.sh TOOL BUILD_DIR
 set -u
 rp=$1
