@@ -272,8 +272,7 @@ int rp_cmd_picture(int argc, char **argv) {
       (rc = rp_opts_exclusive(&o, "all", "vmax", (const char *)NULL)))
     return rc;
   const char *path = o.pos[0], *out = rp_opts_string(&o, "out", NULL);
-  if ((rc = rp_cli_check_outputs(CMD, NULL, NULL)) || (rc = rp_cli_check_output(CMD, "out", out)))
-    return rc;
+  if ((rc = rp_cli_check_output(CMD, "out", out))) return rc;
   const size_t n = strlen(out);
   if (!(n > 4 && (strcasecmp(out + n - 4, ".png") == 0 || strcasecmp(out + n - 4, ".svg") == 0 ||
                   strcasecmp(out + n - 4, ".pdf") == 0)))
