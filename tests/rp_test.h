@@ -15,6 +15,9 @@
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
+
+#include <dirent.h>
 
 #include <gsl/gsl_errno.h>
 
@@ -46,6 +49,39 @@ static inline void rp_test_init(void) { gsl_set_error_handler_off(); }
 /* Path of a file in the source tree (RP_SOURCE_DIR is compiled in). */
 static inline const char *rp_test_source_path(const char *rel, char *buf, size_t n) {
   snprintf(buf, n, "%s/%s", RP_SOURCE_DIR, rel);
+  return buf;
+}
+
+/* Number of entries of folder dir other than . and .. (-1 if it cannot be read). */
+static inline int rp_test_count_entries(const char *dir) {
+  DIR *d = opendir(dir);
+  if (d == NULL) return -1;
+  int n = 0;
+  struct dirent *e;
+  while ((e = readdir(d)) != NULL)
+    if (strcmp(e->d_name, ".") != 0 && strcmp(e->d_name, "..") != 0) n++;
+  closedir(d);
+  return n;
+}
+
+/* Whole file in a NUL-terminated heap buffer (caller frees); *n its size. NULL if
+ * unreadable. */
+static inline unsigned char *rp_test_slurp(const char *path, size_t *n) {
+  FILE *fp = fopen(path, "rb");
+  if (fp == NULL) return NULL;
+  fseek(fp, 0, SEEK_END);
+  long len = ftell(fp);
+  fseek(fp, 0, SEEK_SET);
+  unsigned char *buf = len >= 0 ? malloc((size_t)len + 1) : NULL;
+  if (buf != NULL && fread(buf, 1, (size_t)len, fp) != (size_t)len) {
+    free(buf);
+    buf = NULL;
+  }
+  fclose(fp);
+  if (buf != NULL) {
+    buf[len] = '\0';
+    *n = (size_t)len;
+  }
   return buf;
 }
 

@@ -70,35 +70,7 @@ static const char *in_dir(const fixture *f, const char *name, char *buf, size_t 
   return buf;
 }
 
-static int count_entries(const char *dir) {
-  DIR *d = opendir(dir);
-  if (d == NULL) return -1;
-  int n = 0;
-  struct dirent *e;
-  while ((e = readdir(d)) != NULL)
-    if (strcmp(e->d_name, ".") != 0 && strcmp(e->d_name, "..") != 0) n++;
-  closedir(d);
-  return n;
-}
 
-static unsigned char *slurp(const char *path, size_t *n) {
-  FILE *fp = fopen(path, "rb");
-  if (fp == NULL) return NULL;
-  fseek(fp, 0, SEEK_END);
-  long len = ftell(fp);
-  fseek(fp, 0, SEEK_SET);
-  unsigned char *buf = malloc((size_t)len + 1);
-  if (buf != NULL && fread(buf, 1, (size_t)len, fp) != (size_t)len) {
-    free(buf);
-    buf = NULL;
-  }
-  fclose(fp);
-  if (buf != NULL) {
-    buf[len] = '\0';
-    *n = (size_t)len;
-  }
-  return buf;
-}
 
 static void write_bytes(const char *path, const void *b, size_t n) {
   FILE *fp = fopen(path, "wb");
@@ -115,7 +87,7 @@ static uint32_t be32(const unsigned char *p) {
  * from memory), and complete (rp_figure_check_file: the IEND chunk last). */
 static void assert_png_of_size(const char *path, uint32_t w, uint32_t h) {
   size_t n = 0;
-  unsigned char *b = slurp(path, &n);
+  unsigned char *b = rp_test_slurp(path, &n);
   assert_non_null(b);
   assert_true(n > 33);
   assert_memory_equal(b + 12, "IHDR", 4);
@@ -224,7 +196,7 @@ static void test_every_panel_kind_writes_complete_png_svg_pdf(void **state) {
     assert_int_equal(rp_figure_check_file(path, &e), RP_OK);
   }
   assert_png_of_size(in_dir(f, names[0], path, sizeof path), 1000, 800);
-  assert_int_equal(count_entries(f->dir), 3); /* no temporary file left */
+  assert_int_equal(rp_test_count_entries(f->dir), 3); /* no temporary file left */
 }
 
 /* Missing values: a NaN point is not drawn and does not move the axes, so a markers
@@ -252,7 +224,7 @@ static void test_nan_points_are_not_drawn(void **state) {
   s = (rp_figure_series){"LDR", x1, y3, 5, RP_FIGURE_STYLE_MARKERS};
   assert_int_equal(rp_figure_write(in_dir(f, "floor.png", c, sizeof c), &fig, &e), RP_OK);
   size_t na = 0, nb = 0, nc = 0;
-  unsigned char *ba = slurp(a, &na), *bb = slurp(b, &nb), *bc = slurp(c, &nc);
+  unsigned char *ba = rp_test_slurp(a, &na), *bb = rp_test_slurp(b, &nb), *bc = rp_test_slurp(c, &nc);
   assert_non_null(ba);
   assert_non_null(bb);
   assert_non_null(bc);
@@ -291,7 +263,7 @@ static void test_full_disk_is_eio_with_reason_and_leaves_nothing(void **state) {
     in_dir(f, names[m], path, sizeof path);
     assert_int_equal(rp_figure_write(path, &d.fig, &e), RP_EIO);
     assert_non_null(strstr(e.msg, strerror(ENOSPC)));
-    assert_int_equal(count_entries(f->dir), 1); /* only the filler */
+    assert_int_equal(rp_test_count_entries(f->dir), 1); /* only the filler */
   }
   /* the old API reports it too */
   rp_plot_series os = {"a", d.x, d.y1, NPT, RP_PLOT_LINE};
@@ -299,7 +271,7 @@ static void test_full_disk_is_eio_with_reason_and_leaves_nothing(void **state) {
   rp_error e = {0};
   assert_int_equal(rp_plot_panels(in_dir(f, "old.png", path, sizeof path), &op, 1, 1, 600, 400, &e),
                    RP_EIO);
-  assert_int_equal(count_entries(f->dir), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 1);
 }
 
 static void test_percent_in_name_is_literal(void **state) {
@@ -311,7 +283,7 @@ static void test_percent_in_name_is_literal(void **state) {
   in_dir(f, "p%n%d%s.png", path, sizeof path);
   assert_int_equal(rp_figure_write(path, &d.fig, &e), RP_OK);
   assert_png_of_size(path, 1000, 800);
-  assert_int_equal(count_entries(f->dir), 1); /* no stray temporary or expanded name */
+  assert_int_equal(rp_test_count_entries(f->dir), 1); /* no stray temporary or expanded name */
 }
 
 static void test_symlink_is_written_through_and_mode_kept(void **state) {
@@ -333,8 +305,8 @@ static void test_symlink_is_written_through_and_mode_kept(void **state) {
   assert_png_of_size(target, 1000, 800);
   assert_int_equal(stat(target, &st), 0);
   assert_int_equal(st.st_mode & 07777, 0640);
-  assert_int_equal(count_entries(sub), 1);
-  assert_int_equal(count_entries(f->dir), 2);
+  assert_int_equal(rp_test_count_entries(sub), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 2);
 
   /* a dangling link: the target is created */
   char dangling[2048], t2[2048];
@@ -376,21 +348,21 @@ static void test_draw_temp_then_commit_or_discard(void **state) {
   assert_int_not_equal(stat(path, &st), 0);               /* not yet in place */
   assert_int_equal(rp_figure_commit(tmp, path, &e), RP_OK);
   assert_png_of_size(path, 1000, 800);
-  assert_int_equal(count_entries(f->dir), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 1);
 
   assert_int_equal(rp_figure_draw_temp(path, &d.fig, tmp, sizeof tmp, &e), RP_OK);
-  assert_int_equal(count_entries(f->dir), 2);
+  assert_int_equal(rp_test_count_entries(f->dir), 2);
   rp_figure_discard(tmp);
   rp_figure_discard(NULL);
   rp_figure_discard("");
-  assert_int_equal(count_entries(f->dir), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 1);
 
   /* a tmp buffer that is too short: EINVAL, nothing left */
   char small[8];
   assert_int_equal(rp_figure_draw_temp(path, &d.fig, small, sizeof small, &e), RP_EINVAL);
   assert_string_equal(small, "");
   assert_int_equal(rp_figure_draw_temp(path, &d.fig, NULL, 0, &e), RP_EINVAL);
-  assert_int_equal(count_entries(f->dir), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 1);
 
   /* commit: NULL arguments; a rename into a missing folder fails and removes tmp */
   assert_int_equal(rp_figure_commit(NULL, path, &e), RP_EINVAL);
@@ -399,7 +371,7 @@ static void test_draw_temp_then_commit_or_discard(void **state) {
   char bad[2048];
   assert_int_equal(rp_figure_commit(tmp, in_dir(f, "none/x.png", bad, sizeof bad), &e), RP_EIO);
   assert_non_null(strstr(e.msg, strerror(ENOENT)));
-  assert_int_equal(count_entries(f->dir), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 1);
 }
 
 static void test_check_file_finds_truncated_pictures(void **state) {
@@ -413,7 +385,7 @@ static void test_check_file_finds_truncated_pictures(void **state) {
     in_dir(f, names[m], path, sizeof path);
     assert_int_equal(rp_figure_write(path, &d.fig, &e), RP_OK);
     size_t n = 0;
-    unsigned char *b = slurp(path, &n);
+    unsigned char *b = rp_test_slurp(path, &n);
     assert_non_null(b);
     write_bytes(path, b, n - 20); /* cut the end off */
     assert_int_equal(rp_figure_check_file(path, &e), RP_EPLOT);
@@ -487,7 +459,7 @@ static void test_bad_figures_are_einval_and_leave_nothing(void **state) {
   d.fig.height_px = 900;
   EXPECT_EINVAL("does not fit");
 #undef EXPECT_EINVAL
-  assert_int_equal(count_entries(f->dir), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 static void test_missing_folder_is_eio_and_leaves_nothing(void **state) {
@@ -499,7 +471,7 @@ static void test_missing_folder_is_eio_and_leaves_nothing(void **state) {
   in_dir(f, "no-such-folder/fig.svg", path, sizeof path);
   assert_int_equal(rp_figure_write(path, &d.fig, &e), RP_EIO);
   assert_non_null(strstr(e.msg, strerror(ENOENT)));
-  assert_int_equal(count_entries(f->dir), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 /* PLplot allows 100 streams (PL_NSTREAMS in plstrm.h); with all taken no figure can be
@@ -530,7 +502,7 @@ static void test_no_free_plplot_stream_is_eplot(void **state) {
   plsstrm(old);
   assert_int_equal(st, RP_EPLOT);
   assert_non_null(strstr(e.msg, "stream"));
-  assert_int_equal(count_entries(f->dir), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
   assert_int_equal(rp_figure_write(path, &d.fig, &e), RP_OK); /* and again afterwards */
 }
 

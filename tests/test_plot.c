@@ -59,37 +59,7 @@ static const char *in_dir(const fixture *f, const char *name, char *buf, size_t 
   return buf;
 }
 
-/* Number of entries in the fixture folder (other than . and ..). */
-static int count_entries(const fixture *f) {
-  DIR *d = opendir(f->dir);
-  if (d == NULL) return -1;
-  int n = 0;
-  struct dirent *e;
-  while ((e = readdir(d)) != NULL)
-    if (strcmp(e->d_name, ".") != 0 && strcmp(e->d_name, "..") != 0) n++;
-  closedir(d);
-  return n;
-}
 
-/* Whole file in a NUL-terminated heap buffer; *n its size. NULL if unreadable. */
-static unsigned char *slurp(const char *path, size_t *n) {
-  FILE *fp = fopen(path, "rb");
-  if (fp == NULL) return NULL;
-  fseek(fp, 0, SEEK_END);
-  long len = ftell(fp);
-  fseek(fp, 0, SEEK_SET);
-  unsigned char *buf = malloc((size_t)len + 1);
-  if (buf != NULL && fread(buf, 1, (size_t)len, fp) != (size_t)len) {
-    free(buf);
-    buf = NULL;
-  }
-  fclose(fp);
-  if (buf != NULL) {
-    buf[len] = '\0';
-    *n = (size_t)len;
-  }
-  return buf;
-}
 
 static uint32_t be32(const unsigned char *p) {
   return ((uint32_t)p[0] << 24) | ((uint32_t)p[1] << 16) | ((uint32_t)p[2] << 8) | p[3];
@@ -100,7 +70,7 @@ static uint32_t be32(const unsigned char *p) {
  * numbers from memory). */
 static void assert_png_of_size(const char *path, uint32_t w, uint32_t h) {
   size_t n = 0;
-  unsigned char *b = slurp(path, &n);
+  unsigned char *b = rp_test_slurp(path, &n);
   assert_non_null(b);
   assert_true(n > 33);
   static const unsigned char sig[8] = {0x89, 'P', 'N', 'G', '\r', '\n', 0x1A, '\n'};
@@ -148,7 +118,7 @@ static void test_panels_png_has_signature_and_requested_size(void **state) {
   in_dir(f, "curve.png", path, sizeof path);
   assert_int_equal(rp_plot_panels(path, fd.p, 2, 2, 900, 600, &e), RP_OK);
   assert_png_of_size(path, 900, 600);
-  assert_int_equal(count_entries(f), 1); /* no temporary file left */
+  assert_int_equal(rp_test_count_entries(f->dir), 1); /* no temporary file left */
 }
 
 static void test_panels_svg_contains_svg_element_of_requested_size(void **state) {
@@ -160,14 +130,14 @@ static void test_panels_svg_contains_svg_element_of_requested_size(void **state)
   in_dir(f, "curve.SVG", path, sizeof path); /* extension is case-insensitive */
   assert_int_equal(rp_plot_panels(path, fd.p, 2, 1, 700, 900, &e), RP_OK);
   size_t n = 0;
-  unsigned char *b = slurp(path, &n);
+  unsigned char *b = rp_test_slurp(path, &n);
   assert_non_null(b);
   assert_true(n > 0);
   assert_non_null(strstr((char *)b, "<svg"));
   /* cairo's SVG surface writes the page size as the viewBox, in points */
   assert_non_null(strstr((char *)b, "viewBox=\"0 0 700 900\""));
   free(b);
-  assert_int_equal(count_entries(f), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 1);
 }
 
 static void test_panels_pdf_starts_with_pdf_header(void **state) {
@@ -179,7 +149,7 @@ static void test_panels_pdf_starts_with_pdf_header(void **state) {
   in_dir(f, "curve.pdf", path, sizeof path);
   assert_int_equal(rp_plot_panels(path, fd.p, 2, 2, 1000, 500, &e), RP_OK);
   size_t n = 0;
-  unsigned char *b = slurp(path, &n);
+  unsigned char *b = rp_test_slurp(path, &n);
   assert_non_null(b);
   assert_true(n > 5);
   assert_memory_equal(b, "%PDF-", 5); /* ISO 32000-1:2008 §7.5.2 file header (section from memory) */
@@ -229,7 +199,7 @@ static void test_panels_replace_existing_file(void **state) {
   fclose(fp);
   assert_int_equal(rp_plot_panels(path, fd.p, 1, 1, 500, 400, &e), RP_OK);
   assert_png_of_size(path, 500, 400);
-  assert_int_equal(count_entries(f), 1);
+  assert_int_equal(rp_test_count_entries(f->dir), 1);
 }
 
 static void test_panels_restore_callers_plplot_stream(void **state) {
@@ -260,7 +230,7 @@ static void test_panels_unknown_extension_is_einval(void **state) {
     assert_int_equal(rp_plot_panels(path, fd.p, 2, 2, 800, 600, &e), RP_EINVAL);
     assert_non_null(strstr(e.msg, "extension"));
   }
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 static void test_panels_empty_list_is_einval(void **state) {
@@ -273,7 +243,7 @@ static void test_panels_empty_list_is_einval(void **state) {
   assert_int_equal(rp_plot_panels(path, fd.p, 0, 1, 800, 600, &e), RP_EINVAL);
   assert_non_null(strstr(e.msg, "no panels"));
   assert_int_equal(rp_plot_panels(path, NULL, 2, 1, 800, 600, &e), RP_EINVAL);
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 static void test_panels_log_axis_with_nonpositive_data_is_einval(void **state) {
@@ -297,7 +267,7 @@ static void test_panels_log_axis_with_nonpositive_data_is_einval(void **state) {
   p[0].log_y = 0;
   assert_int_equal(rp_plot_panels(path, p, 1, 1, 400, 300, &e), RP_EINVAL);
   assert_non_null(strstr(e.msg, "x[2] = -3"));
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 static void test_panels_missing_folder_is_eio_and_leaves_nothing(void **state) {
@@ -311,7 +281,7 @@ static void test_panels_missing_folder_is_eio_and_leaves_nothing(void **state) {
   assert_non_null(strstr(e.msg, "no-such-folder"));
   struct stat st;
   assert_int_not_equal(stat(in_dir(f, "no-such-folder", sub, sizeof sub), &st), 0);
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 static void test_panels_bad_arguments_are_einval(void **state) {
@@ -362,7 +332,7 @@ static void test_panels_bad_arguments_are_einval(void **state) {
   assert_int_equal(rp_plot_panels(path, fd.p, 2, 2, 800, 600, &e), RP_EINVAL);
   assert_non_null(strstr(e.msg, "1:1"));
 
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 /* PLplot allows 100 streams (PL_NSTREAMS in plstrm.h); with all taken, no figure can
@@ -392,7 +362,7 @@ static void test_panels_without_free_plplot_stream_is_eplot(void **state) {
   }
   plsstrm(old);
   assert_int_equal(st, RP_EPLOT);
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
   /* and figures work again afterwards */
   assert_int_equal(rp_plot_panels(path, fd.p, 2, 2, 800, 600, &e), RP_OK);
 }
@@ -425,7 +395,7 @@ static void test_panels_without_cairo_device_is_eplot(void **state) {
   rmdir(drv);
   assert_true(WIFEXITED(wst));
   assert_int_equal(WEXITSTATUS(wst), RP_EPLOT);
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 /* The child of the test above: draw one figure, exit with its status. */
@@ -476,7 +446,7 @@ static void test_ppi_png_written_with_requested_size(void **state) {
   in_dir(f, "sector.png", path, sizeof path);
   assert_int_equal(rp_plot_ppi_write(path, &d.ppi, 600, 600, &e), RP_OK);
   assert_png_of_size(path, 600, 600);
-  assert_int_equal(count_entries(f), 2);
+  assert_int_equal(rp_test_count_entries(f->dir), 2);
 }
 
 static void test_ppi_bad_inputs_are_einval(void **state) {
@@ -539,7 +509,7 @@ static void test_ppi_bad_inputs_are_einval(void **state) {
 
   in_dir(f, "bad.gif", path, sizeof path);
   assert_int_equal(rp_plot_ppi_write(path, &d.ppi, 800, 700, &e), RP_EINVAL);
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 static void test_ppi_missing_folder_is_eio_and_leaves_nothing(void **state) {
@@ -550,7 +520,7 @@ static void test_ppi_missing_folder_is_eio_and_leaves_nothing(void **state) {
   make_ppi(&d, RP_PLOT_CMAP_DIVERGING);
   in_dir(f, "nowhere/ppi.svg", path, sizeof path);
   assert_int_equal(rp_plot_ppi_write(path, &d.ppi, 800, 700, &e), RP_EIO);
-  assert_int_equal(count_entries(f), 0);
+  assert_int_equal(rp_test_count_entries(f->dir), 0);
 }
 
 /* ------------------------------------------------------------- colour maps */
