@@ -7,6 +7,7 @@
  * and checks that nothing but the expected files is left there. */
 #define _GNU_SOURCE
 #include "rp_test.h"
+#include "rp_test_plplot.h"
 
 #include <dirent.h>
 #include <errno.h>
@@ -483,23 +484,11 @@ static void test_no_free_plplot_stream_is_eplot(void **state) {
   make_demo(&d);
   char path[2048];
   rp_error e = {0};
-  PLINT old, made[128];
-  int n = 0;
-  plgstrm(&old);
-  for (;;) {
-    PLINT s = -1;
-    plmkstrm(&s);
-    if (s < 0 || n == 128) break;
-    made[n++] = s;
-  }
-  plsstrm(old);
+  rp_test_streams streams;
+  rp_test_take_streams(&streams);
   in_dir(f, "nostream.pdf", path, sizeof path);
   rp_status st = rp_figure_write(path, &d.fig, &e);
-  for (int i = 0; i < n; i++) {
-    plsstrm(made[i]);
-    plend1();
-  }
-  plsstrm(old);
+  rp_test_give_back_streams(&streams);
   assert_int_equal(st, RP_EPLOT);
   assert_non_null(strstr(e.msg, "stream"));
   assert_int_equal(rp_test_count_entries(f->dir), 0);
